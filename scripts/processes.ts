@@ -1,0 +1,39 @@
+/** Child-process helpers for the start and test scripts: spawn with prefixed output, wait for a port, run to completion. */
+import { spawn, type ChildProcess } from 'node:child_process'
+import net from 'node:net'
+
+export function spawnService(name: string, command: string, args: string[], env: NodeJS.ProcessEnv = process.env): ChildProcess {
+  const child = spawn(command, args, { env, stdio: ['ignore', 'pipe', 'pipe'] })
+  const prefix = (chunk: Buffer) => chunk.toString().replace(/\n(?!$)/g, `\n[${name}] `)
+  child.stdout!.on('data', (c: Buffer) => process.stdout.write(`[${name}] ${prefix(c)}`))
+  child.stderr!.on('data', (c: Buffer) => process.stderr.write(`[${name}] ${prefix(c)}`))
+  return child
+}
+
+export function run(command: string, args: string[], env: NodeJS.ProcessEnv = process.env): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(command, args, { env, stdio: 'inherit' })
+    child.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`${command} ${args.join(' ')} exited with ${code}`))))
+    child.on('error', reject)
+  })
+}
+
+export function portIsOpen(port: number, host = '127.0.0.1'): Promise<boolean> {
+  return new Promise((resolve) => {
+    const socket = net.connect({ port, host })
+    socket.once('connect', () => {
+      socket.destroy()
+      resolve(true)
+    })
+    socket.once('error', () => resolve(false))
+  })
+}
+
+export async function waitForPort(port: number, what: string, timeoutMs = 30_000): Promise<void> {
+  const deadline = Date.now() + timeoutMs
+  while (Date.now() < deadline) {
+    if (await portIsOpen(port)) return
+    await new Promise((r) => setTimeout(r, 200))
+  }
+  throw new Error(`${what} did not open port ${port} within ${timeoutMs / 1000} s`)
+}

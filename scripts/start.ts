@@ -1,0 +1,80 @@
+/**
+ * The body of `npm start`. Starts what is not configured to be elsewhere (PostgreSQL, s3rver, the SMTP sink),
+ * migrates, seeds the demo lab once, builds the client, and serves client + API on one port. Ctrl-C stops everything
+ * it started; data stays in .data/ for the next run.
+ */
+import type { ChildProcess } from 'node:child_process'
+import { fileURLToPath } from 'node:url'
+import { loadConfig, LOCAL_DEFAULTS } from '../server/config'
+import { createSequelize } from '../server/db'
+import { migrateToLatest } from '../server/migrator'
+import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
+import { seedDemoLab } from './seed'
+import { portIsOpen, run, spawnService, waitForPort } from './processes'
+
+const root = fileURLToPath(new URL('..', import.meta.url))
+process.chdir(root)
+const tsx = 'node_modules/.bin/tsx'
+const children: ChildProcess[] = []
+let startedPostgres = false
+const env: NodeJS.ProcessEnv = { ...process.env }
+
+async function startLocalServices() {
+  if (!process.env.DATABASE_URL) {
+    startedPostgres = !(await portIsOpen(55432))
+    await run('bash', ['scripts/postgres.sh', 'start'])
+  }
+  if (!process.env.S3_ENDPOINT) {
+    if (await portIsOpen(4569)) console.log('[s3] something already listens on 4569: using it')
+    else children.push(spawnService('s3', tsx, ['scripts/s3Server.ts'], env))
+    await waitForPort(4569, 's3rver')
+  }
+  if (!process.env.SMTP_URL) {
+    env.MAIL_SINK_DIR ??= `${root}.data/mail`
+    if (await portIsOpen(2525)) console.log('[mail] something already listens on 2525: using it')
+    else children.push(spawnService('mail', tsx, ['scripts/mailSink.ts'], env))
+    await waitForPort(2525, 'SMTP sink')
+  }
+}
+
+async function prepareDatabase() {
+  const sequelize = createSequelize(process.env.DATABASE_URL ?? LOCAL_DEFAULTS.databaseUrl)
+  try {
+    const applied = await migrateToLatest(sequelize)
+    console.log(applied.length ? `[migrate] applied ${applied.join(', ')}` : '[migrate] schema is up to date')
+    console.log((await seedDemoLab(sequelize)) ? '[seed] demo lab created' : '[seed] demo lab already present')
+  } finally {
+    await sequelize.close()
+  }
+}
+
+async function stopAll(code: number) {
+  for (const child of children) child.kill('SIGTERM')
+  await Promise.all(children.map((c) => new Promise((r) => (c.exitCode !== null ? r(null) : c.once('exit', r)))))
+  if (startedPostgres) await run('bash', ['scripts/postgres.sh', 'stop']).catch(() => {})
+  process.exit(code)
+}
+
+process.on('SIGINT', () => void stopAll(0))
+process.on('SIGTERM', () => void stopAll(0))
+
+try {
+  await startLocalServices()
+  await prepareDatabase()
+  console.log('[build] building the client')
+  await run('node_modules/.bin/vite', ['build', '--logLevel', 'warn'])
+  const config = loadConfig()
+  const server = spawnService('web', tsx, ['server/index.ts'], env)
+  children.push(server)
+  server.once('exit', (code) => {
+    console.error(`[web] exited with ${code}`)
+    void stopAll(code ?? 1)
+  })
+  await waitForPort(config.port, 'web server')
+  console.log(`\nRemanence is up: ${config.publicUrl}\n\nDemo sign-ins (password "${DEMO_PASSWORD}"):`)
+  for (const p of DEMO_PEOPLE) console.log(`  ${p.role.padEnd(13)} ${p.email}  (${p.name})`)
+  console.log('\nCtrl-C stops everything started here; data stays in .data/.')
+} catch (err) {
+  console.error(err instanceof Error ? err.message : err)
+  await stopAll(1)
+}

@@ -1,0 +1,116 @@
+/**
+ * Builds the Express app: security headers, body parsing, sessions, passport, CSRF, the API routes, the OpenAPI
+ * document, the built client with its SPA fallback, then the 404 and error handlers — in that order.
+ * server/index.ts is the only file that calls listen().
+ */
+import express, { type NextFunction, type Request, type Response } from 'express'
+import helmet from 'helmet'
+import { existsSync } from 'node:fs'
+import { fileURLToPath } from 'node:url'
+import path from 'node:path'
+import type { Sequelize } from 'sequelize'
+import type { AppConfig } from './config'
+import { AppError } from './errors'
+import type { ObjectStore } from './storage/objectStore'
+import type { Mailer } from './mail/mailer'
+import { createSessionMiddleware } from './auth/session'
+import { configurePassport } from './auth/passport'
+import { csrfProtection } from './auth/csrf'
+import { createApiDefinition, openApiDocument } from './openapi/apiRoute'
+import { registerHealthRoutes } from './routes/health'
+import { registerAuthRoutes } from './routes/auth'
+import { registerLabRoutes } from './routes/labs'
+import { registerProjectRoutes } from './routes/projects'
+import { registerDevRoutes } from './routes/dev'
+
+export interface AppDeps {
+  config: AppConfig
+  sequelize: Sequelize
+  store: ObjectStore
+  mailer: Mailer
+}
+
+const DIST_DIR = fileURLToPath(new URL('../dist', import.meta.url))
+
+export function createApp(deps: AppDeps) {
+  const { config } = deps
+  const app = express()
+  app.disable('x-powered-by')
+  if (config.secureCookies) app.set('trust proxy', 1)
+
+  const storageOrigin = deps.config.s3.endpoint ? new URL(deps.config.s3.endpoint).origin : ''
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          'img-src': ["'self'", 'data:', 'blob:', ...(storageOrigin ? [storageOrigin] : [])],
+          'connect-src': ["'self'", ...(storageOrigin ? [storageOrigin] : [])],
+          'worker-src': ["'self'", 'blob:'],
+          'upgrade-insecure-requests': config.secureCookies ? [] : null,
+        },
+      },
+      strictTransportSecurity: config.secureCookies,
+    }),
+  )
+  app.use('/api', express.json({ limit: '2mb' }))
+
+  const sessions = createSessionMiddleware(config)
+  const passport = configurePassport()
+  // Health and the API description must answer even when the session store (the database) is down.
+  const sessionless = new Set(['/health', '/openapi.json'])
+  for (const middleware of [sessions.middleware, passport.session(), csrfProtection]) {
+    app.use('/api', (req, res, next) => (sessionless.has(req.path) ? next() : middleware(req, res, next)))
+  }
+
+  const api = createApiDefinition(express.Router())
+  registerHealthRoutes(api, deps)
+  registerAuthRoutes(api, deps, passport)
+  registerLabRoutes(api)
+  registerProjectRoutes(api)
+  if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
+  const document = openApiDocument(api.registry)
+  api.router.get('/openapi.json', (_req, res) => res.json(document))
+  app.use('/api', api.router)
+  app.use('/api', (req, _res, next) => next(new AppError(404, 'route-not-found', `No API route ${req.method} ${req.originalUrl}.`)))
+
+  if (existsSync(DIST_DIR)) {
+    app.use(express.static(DIST_DIR, { index: false, maxAge: '1h' }))
+    app.get('/{*splat}', (_req, res) => res.sendFile(path.join(DIST_DIR, 'index.html')))
+  }
+
+  app.use(errorHandler)
+  return { app, apiRouter: api.router, openApi: document, close: () => sessions.close() }
+}
+
+/** Turns errors into `{ error: { code, message } }`. Database outages become 503 with a clear message. */
+function errorHandler(err: unknown, req: Request, res: Response, next: NextFunction): void {
+  void next
+  if (res.headersSent) return
+  if (err instanceof AppError) {
+    res.status(err.status).json({ error: { code: err.code, message: err.message, ...err.extra } })
+    return
+  }
+  const e = err as { type?: string; status?: number; name?: string; message?: string; code?: string }
+  if (e.type === 'entity.too.large') {
+    res.status(413).json({ error: { code: 'body-too-large', message: 'The request body is too large.' } })
+    return
+  }
+  if (e.type === 'entity.parse.failed') {
+    res.status(400).json({ error: { code: 'invalid-json', message: 'The request body is not valid JSON.' } })
+    return
+  }
+  if (isDatabaseOutage(e)) {
+    res.status(503).json({ error: { code: 'db-unavailable', message: 'The database is not reachable right now; try again in a moment.' } })
+    return
+  }
+  console.error(`[${new Date().toISOString()}] ${req.method} ${req.originalUrl}`, err)
+  res.status(500).json({ error: { code: 'internal-error', message: 'Something went wrong on the server. It has been logged.' } })
+}
+
+function isDatabaseOutage(e: { name?: string; code?: string; message?: string }): boolean {
+  return (
+    ['SequelizeConnectionError', 'SequelizeConnectionRefusedError', 'SequelizeConnectionAcquireTimeoutError', 'SequelizeHostNotReachableError'].includes(e.name ?? '') ||
+    ['ECONNREFUSED', '57P01', '57P03', 'ECONNRESET'].includes(e.code ?? '') ||
+    /Connection terminated|connect ECONNREFUSED|the database system is (shutting down|starting up)/.test(e.message ?? '')
+  )
+}

@@ -1,0 +1,34 @@
+/** The signed-in person as the request sees it: loaded once per request from the session's user id. */
+import type { LabRole } from '../../shared/auth/permissions'
+import { Lab, Membership, User } from '../models'
+
+export interface SessionUser {
+  id: number
+  email: string
+  name: string
+  memberships: { labId: number; labName: string; role: LabRole }[]
+}
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    // passport's req.user is typed as Express.User; ours carries the memberships.
+    interface User extends SessionUser {}
+  }
+}
+
+/** Load an active user with their active memberships, or null (unknown, deactivated). */
+export async function loadSessionUser(userId: number): Promise<SessionUser | null> {
+  const user = await User.findByPk(userId)
+  if (!user || !user.active) return null
+  const memberships = await Membership.findAll({ where: { userId, active: true }, include: [{ model: Lab, attributes: ['id', 'name'] }], order: [['labId', 'ASC']] })
+  return {
+    id: user.id,
+    email: user.email,
+    name: user.name,
+    memberships: memberships.map((m) => {
+      const lab = (m as unknown as { Lab: Lab }).Lab
+      return { labId: lab.id, labName: lab.name, role: m.role }
+    }),
+  }
+}

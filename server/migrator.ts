@@ -1,0 +1,29 @@
+/**
+ * Versioned migrations with umzug: every file in server/migrations/ runs once, in name order, recorded in the
+ * `SequelizeMeta` table. Never `sync({ force })` outside tests.
+ */
+import { Umzug, SequelizeStorage } from 'umzug'
+import type { QueryInterface, Sequelize } from 'sequelize'
+import * as initialSchema from './migrations/0001-initial-schema'
+
+/** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
+const MIGRATIONS = [{ name: '0001-initial-schema', module: initialSchema }]
+
+export function createMigrator(sequelize: Sequelize) {
+  return new Umzug<QueryInterface>({
+    migrations: MIGRATIONS.map(({ name, module }) => ({
+      name,
+      up: (params) => module.up(params),
+      down: (params) => module.down(params),
+    })),
+    context: sequelize.getQueryInterface(),
+    storage: new SequelizeStorage({ sequelize }),
+    logger: undefined,
+  })
+}
+
+/** Apply pending migrations; returns the names applied. */
+export async function migrateToLatest(sequelize: Sequelize): Promise<string[]> {
+  const applied = await createMigrator(sequelize).up()
+  return applied.map((m) => m.name)
+}

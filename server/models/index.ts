@@ -1,0 +1,365 @@
+/**
+ * Sequelize model definitions (models only: the schema itself is made by the migrations in server/migrations/).
+ * `defineModels` binds every model to one connection and declares the associations.
+ */
+import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
+import type { LabRole } from '../../shared/auth/permissions'
+import type { AnalysisStatus, Technique } from '../../shared/types/lab'
+
+export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
+  declare id: CreationOptional<number>
+  declare email: string
+  declare name: string
+  declare passwordHash: string | null
+  declare active: CreationOptional<boolean>
+  declare failedLogins: CreationOptional<number>
+  declare lockedUntil: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Lab extends Model<InferAttributes<Lab>, InferCreationAttributes<Lab>> {
+  declare id: CreationOptional<number>
+  declare name: string
+  declare institution: string
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Membership extends Model<InferAttributes<Membership>, InferCreationAttributes<Membership>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']>
+  declare userId: ForeignKey<User['id']>
+  declare role: LabRole
+  declare active: CreationOptional<boolean>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Project extends Model<InferAttributes<Project>, InferCreationAttributes<Project>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']>
+  declare name: string
+  declare description: CreationOptional<string>
+  declare createdById: ForeignKey<User['id']> | null
+  declare deletedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Sample extends Model<InferAttributes<Sample>, InferCreationAttributes<Sample>> {
+  declare id: CreationOptional<number>
+  declare projectId: ForeignKey<Project['id']>
+  declare name: string
+  declare material: CreationOptional<string>
+  declare thicknessNm: number | null
+  declare substrate: CreationOptional<string>
+  declare annealTemperatureC: number | null
+  declare annealDurationMin: number | null
+  declare annealAtmosphere: CreationOptional<string>
+  declare annealFieldMT: number | null
+  declare notes: CreationOptional<string>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Image extends Model<InferAttributes<Image>, InferCreationAttributes<Image>> {
+  declare id: CreationOptional<number>
+  declare projectId: ForeignKey<Project['id']>
+  declare sampleId: ForeignKey<Sample['id']> | null
+  declare uploadedById: ForeignKey<User['id']> | null
+  declare name: string
+  declare technique: Technique
+  declare objectKey: string
+  declare sha256: string
+  declare byteSize: number
+  declare mediaType: string
+  declare width: number
+  declare height: number
+  declare bitDepth: number
+  declare frameCount: number
+  declare pixelSizeNm: number | null
+  declare pixelSizeSource: string | null
+  declare notes: CreationOptional<string>
+  declare acquiredAt: Date | null
+  declare deletedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Frame extends Model<InferAttributes<Frame>, InferCreationAttributes<Frame>> {
+  declare id: CreationOptional<number>
+  declare imageId: ForeignKey<Image['id']>
+  declare index: number
+  declare field: number | null
+  declare fieldUnit: string | null
+  declare temperatureK: number | null
+  declare assigneeId: ForeignKey<User['id']> | null
+  declare annotationStatus: CreationOptional<string>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Annotation extends Model<InferAttributes<Annotation>, InferCreationAttributes<Annotation>> {
+  declare id: CreationOptional<number>
+  declare frameId: ForeignKey<Frame['id']>
+  declare version: number
+  declare maskKey: string
+  declare maskEncoding: string
+  declare shapes: CreationOptional<unknown[]>
+  declare authorId: ForeignKey<User['id']> | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Analysis extends Model<InferAttributes<Analysis>, InferCreationAttributes<Analysis>> {
+  declare id: CreationOptional<number>
+  declare frameId: ForeignKey<Frame['id']>
+  declare annotationId: ForeignKey<Annotation['id']> | null
+  declare recipe: Record<string, unknown>
+  declare engineVersion: string
+  declare results: Record<string, unknown> | null
+  declare status: CreationOptional<AnalysisStatus>
+  declare createdById: ForeignKey<User['id']> | null
+  declare approvedById: ForeignKey<User['id']> | null
+  declare approvedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Review extends Model<InferAttributes<Review>, InferCreationAttributes<Review>> {
+  declare id: CreationOptional<number>
+  declare analysisId: ForeignKey<Analysis['id']>
+  declare reviewerId: ForeignKey<User['id']> | null
+  declare fromStatus: AnalysisStatus
+  declare toStatus: AnalysisStatus
+  declare message: CreationOptional<string>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Comment extends Model<InferAttributes<Comment>, InferCreationAttributes<Comment>> {
+  declare id: CreationOptional<number>
+  declare analysisId: ForeignKey<Analysis['id']>
+  declare authorId: ForeignKey<User['id']> | null
+  declare body: string
+  declare x: number | null
+  declare y: number | null
+  declare resolvedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']> | null
+  declare actorId: ForeignKey<User['id']> | null
+  declare action: string
+  declare entityType: string
+  declare entityId: number | null
+  declare before: Record<string, unknown> | null
+  declare after: Record<string, unknown> | null
+  declare createdAt: CreationOptional<Date>
+}
+
+const id = { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true }
+const timestamps = { createdAt: DataTypes.DATE, updatedAt: DataTypes.DATE }
+
+export interface Models {
+  User: typeof User
+  Lab: typeof Lab
+  Membership: typeof Membership
+  Project: typeof Project
+  Sample: typeof Sample
+  Image: typeof Image
+  Frame: typeof Frame
+  Annotation: typeof Annotation
+  Analysis: typeof Analysis
+  Review: typeof Review
+  Comment: typeof Comment
+  AuditEvent: typeof AuditEvent
+}
+
+/**
+ * Bind every model to `sequelize` and declare associations. `Model.init` resets a class's associations, so they are
+ * declared again on every call (tests bind a second connection).
+ */
+export function defineModels(sequelize: Sequelize): Models {
+  const base = (tableName: string) => ({ sequelize, tableName, underscored: true })
+  User.init(
+    {
+      id,
+      email: { type: DataTypes.STRING(320), allowNull: false, unique: true },
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      passwordHash: { type: DataTypes.STRING(300), allowNull: true },
+      active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+      failedLogins: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      lockedUntil: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('users'),
+  )
+  Lab.init({ id, name: { type: DataTypes.STRING(200), allowNull: false }, institution: { type: DataTypes.STRING(200), allowNull: false, defaultValue: '' }, ...timestamps }, base('labs'))
+  Membership.init(
+    {
+      id,
+      role: { type: DataTypes.STRING(20), allowNull: false },
+      active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+      ...timestamps,
+    },
+    base('memberships'),
+  )
+  Project.init(
+    {
+      id,
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      description: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },
+      createdById: { type: DataTypes.INTEGER, allowNull: true },
+      deletedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('projects'),
+  )
+  Sample.init(
+    {
+      id,
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      material: { type: DataTypes.STRING(200), allowNull: false, defaultValue: '' },
+      thicknessNm: { type: DataTypes.DOUBLE, allowNull: true },
+      substrate: { type: DataTypes.STRING(200), allowNull: false, defaultValue: '' },
+      annealTemperatureC: { type: DataTypes.DOUBLE, allowNull: true },
+      annealDurationMin: { type: DataTypes.DOUBLE, allowNull: true },
+      annealAtmosphere: { type: DataTypes.STRING(100), allowNull: false, defaultValue: '' },
+      annealFieldMT: { type: DataTypes.DOUBLE, allowNull: true, field: 'anneal_field_mt' },
+      notes: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },
+      ...timestamps,
+    },
+    base('samples'),
+  )
+  Image.init(
+    {
+      id,
+      sampleId: { type: DataTypes.INTEGER, allowNull: true },
+      uploadedById: { type: DataTypes.INTEGER, allowNull: true },
+      name: { type: DataTypes.STRING(300), allowNull: false },
+      technique: { type: DataTypes.STRING(30), allowNull: false },
+      objectKey: { type: DataTypes.STRING(500), allowNull: false },
+      sha256: { type: DataTypes.STRING(64), allowNull: false },
+      byteSize: { type: DataTypes.BIGINT, allowNull: false },
+      mediaType: { type: DataTypes.STRING(100), allowNull: false },
+      width: { type: DataTypes.INTEGER, allowNull: false },
+      height: { type: DataTypes.INTEGER, allowNull: false },
+      bitDepth: { type: DataTypes.INTEGER, allowNull: false },
+      frameCount: { type: DataTypes.INTEGER, allowNull: false },
+      pixelSizeNm: { type: DataTypes.DOUBLE, allowNull: true },
+      pixelSizeSource: { type: DataTypes.STRING(40), allowNull: true },
+      notes: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },
+      acquiredAt: { type: DataTypes.DATE, allowNull: true },
+      deletedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('images'),
+  )
+  Frame.init(
+    {
+      id,
+      index: { type: DataTypes.INTEGER, allowNull: false },
+      field: { type: DataTypes.DOUBLE, allowNull: true },
+      fieldUnit: { type: DataTypes.STRING(10), allowNull: true },
+      temperatureK: { type: DataTypes.DOUBLE, allowNull: true },
+      assigneeId: { type: DataTypes.INTEGER, allowNull: true },
+      annotationStatus: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'new' },
+      ...timestamps,
+    },
+    base('frames'),
+  )
+  Annotation.init(
+    {
+      id,
+      version: { type: DataTypes.INTEGER, allowNull: false },
+      maskKey: { type: DataTypes.STRING(500), allowNull: false },
+      maskEncoding: { type: DataTypes.STRING(40), allowNull: false },
+      shapes: { type: DataTypes.JSONB, allowNull: false, defaultValue: [] },
+      authorId: { type: DataTypes.INTEGER, allowNull: true },
+      ...timestamps,
+    },
+    base('annotations'),
+  )
+  Analysis.init(
+    {
+      id,
+      annotationId: { type: DataTypes.INTEGER, allowNull: true },
+      recipe: { type: DataTypes.JSONB, allowNull: false },
+      engineVersion: { type: DataTypes.STRING(40), allowNull: false },
+      results: { type: DataTypes.JSONB, allowNull: true },
+      status: { type: DataTypes.STRING(30), allowNull: false, defaultValue: 'draft' },
+      createdById: { type: DataTypes.INTEGER, allowNull: true },
+      approvedById: { type: DataTypes.INTEGER, allowNull: true },
+      approvedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('analyses'),
+  )
+  Review.init(
+    {
+      id,
+      reviewerId: { type: DataTypes.INTEGER, allowNull: true },
+      fromStatus: { type: DataTypes.STRING(30), allowNull: false },
+      toStatus: { type: DataTypes.STRING(30), allowNull: false },
+      message: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },
+      ...timestamps,
+    },
+    base('reviews'),
+  )
+  Comment.init(
+    {
+      id,
+      authorId: { type: DataTypes.INTEGER, allowNull: true },
+      body: { type: DataTypes.TEXT, allowNull: false },
+      x: { type: DataTypes.DOUBLE, allowNull: true },
+      y: { type: DataTypes.DOUBLE, allowNull: true },
+      resolvedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('comments'),
+  )
+  AuditEvent.init(
+    {
+      id,
+      labId: { type: DataTypes.INTEGER, allowNull: true },
+      actorId: { type: DataTypes.INTEGER, allowNull: true },
+      action: { type: DataTypes.STRING(80), allowNull: false },
+      entityType: { type: DataTypes.STRING(40), allowNull: false },
+      entityId: { type: DataTypes.INTEGER, allowNull: true },
+      before: { type: DataTypes.JSONB, allowNull: true },
+      after: { type: DataTypes.JSONB, allowNull: true },
+      createdAt: DataTypes.DATE,
+    },
+    { ...base('audit_events'), updatedAt: false },
+  )
+
+  Lab.hasMany(Membership, { foreignKey: 'labId' })
+  Membership.belongsTo(Lab, { foreignKey: 'labId' })
+  User.hasMany(Membership, { foreignKey: 'userId' })
+  Membership.belongsTo(User, { foreignKey: 'userId' })
+  Lab.hasMany(Project, { foreignKey: 'labId' })
+  Project.belongsTo(Lab, { foreignKey: 'labId' })
+  Project.hasMany(Sample, { foreignKey: 'projectId' })
+  Sample.belongsTo(Project, { foreignKey: 'projectId' })
+  Project.hasMany(Image, { foreignKey: 'projectId' })
+  Image.belongsTo(Project, { foreignKey: 'projectId' })
+  Sample.hasMany(Image, { foreignKey: 'sampleId' })
+  Image.belongsTo(Sample, { foreignKey: 'sampleId' })
+  Image.hasMany(Frame, { foreignKey: 'imageId', as: 'frames' })
+  Frame.belongsTo(Image, { foreignKey: 'imageId' })
+  Frame.hasMany(Annotation, { foreignKey: 'frameId' })
+  Annotation.belongsTo(Frame, { foreignKey: 'frameId' })
+  Frame.hasMany(Analysis, { foreignKey: 'frameId' })
+  Analysis.belongsTo(Frame, { foreignKey: 'frameId' })
+  Analysis.hasMany(Review, { foreignKey: 'analysisId' })
+  Analysis.hasMany(Comment, { foreignKey: 'analysisId' })
+
+  return models
+}
+
+const models: Models = { User, Lab, Membership, Project, Sample, Image, Frame, Annotation, Analysis, Review, Comment, AuditEvent }

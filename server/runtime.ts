@@ -1,0 +1,30 @@
+/** Wires the app's dependencies from a configuration: database + models, object store, mailer. */
+import type { Sequelize } from 'sequelize'
+import { createSequelize } from './db'
+import { defineModels } from './models'
+import { createObjectStore } from './storage/objectStore'
+import { createMailer } from './mail/mailer'
+import type { AppConfig } from './config'
+import type { AppDeps } from './app'
+
+/**
+ * @param options.sequelize reuse an existing connection (tests run several app instances against one); it is then
+ * left open by `dispose`.
+ */
+export function createDeps(config: AppConfig, options: { sequelize?: Sequelize } = {}): AppDeps & { dispose(): Promise<void> } {
+  const sequelize = options.sequelize ?? createSequelize(config.databaseUrl)
+  defineModels(sequelize)
+  const store = createObjectStore(config.s3)
+  const mailer = createMailer(config.smtpUrl, config.mailFrom)
+  return {
+    config,
+    sequelize,
+    store,
+    mailer,
+    async dispose() {
+      store.close()
+      mailer.close()
+      if (!options.sequelize) await sequelize.close()
+    },
+  }
+}
