@@ -1,0 +1,123 @@
+/**
+ * The client's only `fetch`: base `/api`, JSON in and out, the session cookie, the CSRF header on mutations, and one
+ * error type. Resource modules (auth.ts, projects.ts, ...) call `http.get/post/...` and never see a `Response`.
+ */
+import type { ApiErrorBody } from '@shared/types/api'
+
+const BASE = '/api'
+const CSRF_HEADER = 'X-CSRF-Token'
+const MUTATING = new Set(['POST', 'PUT', 'PATCH', 'DELETE'])
+
+/** A failed API call: the server's stable `code` and human `message`, the HTTP status, and per-field messages. */
+export class ApiError extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: string,
+    message: string,
+    readonly fields: Readonly<Record<string, string[]>> = {},
+  ) {
+    super(message)
+    this.name = 'ApiError'
+  }
+}
+
+/** True for any error thrown by this module (a type guard for `catch (e: unknown)`). */
+export function isApiError(error: unknown): error is ApiError {
+  return error instanceof ApiError
+}
+
+/** Any thrown value as an `ApiError`, so stores keep one error type (programming errors keep their message). */
+export function asApiError(error: unknown): ApiError {
+  if (error instanceof ApiError) return error
+  return new ApiError(0, 'unexpected', error instanceof Error ? error.message : String(error))
+}
+
+let csrfToken: string | null = null
+let unauthorizedHandler: (() => void) | null = null
+
+/** The session store sets this after sign-in or restore and clears it at sign-out. */
+export function setCsrfToken(token: string | null): void {
+  csrfToken = token
+}
+
+/**
+ * Called once per 401 from a request that expected a live session (the session expired or was ended elsewhere).
+ * Registered by main.ts so this module needs neither the router nor the stores.
+ */
+export function setUnauthorizedHandler(handler: (() => void) | null): void {
+  unauthorizedHandler = handler
+}
+
+export interface RequestOptions {
+  /** JSON body for POST/PUT/PATCH. */
+  body?: unknown
+  /**
+   * Leave a 401 to the caller instead of sending the person to sign-in: sign-in itself (wrong password) and the
+   * session probe at start-up, where 401 only means "not signed in yet".
+   */
+  expectUnauthorized?: boolean
+  /** Non-2xx statuses whose JSON body is a normal answer, e.g. 503 from /health carrying the report. */
+  acceptStatuses?: readonly number[]
+}
+
+type Method = 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE'
+
+/** Send one request below /api and return its parsed JSON body (`undefined` for 204). Throws `ApiError`. */
+export async function request<T>(method: Method, path: string, options: RequestOptions = {}): Promise<T> {
+  const headers: Record<string, string> = { Accept: 'application/json' }
+  if (options.body !== undefined) headers['Content-Type'] = 'application/json'
+  if (MUTATING.has(method) && csrfToken) headers[CSRF_HEADER] = csrfToken
+
+  let response: Response
+  try {
+    response = await fetch(BASE + path, {
+      method,
+      headers,
+      credentials: 'same-origin',
+      body: options.body === undefined ? undefined : JSON.stringify(options.body),
+    })
+  } catch {
+    throw new ApiError(0, 'network-error', 'The server could not be reached. Check your connection and try again.')
+  }
+
+  const body = await readJson(response)
+  if (response.ok || options.acceptStatuses?.includes(response.status)) return body as T
+
+  if (response.status === 401 && !options.expectUnauthorized) unauthorizedHandler?.()
+  throw toApiError(response.status, body)
+}
+
+async function readJson(response: Response): Promise<unknown> {
+  if (response.status === 204) return undefined
+  const text = await response.text()
+  if (!text) return undefined
+  try {
+    return JSON.parse(text)
+  } catch {
+    // A proxy or gateway page (HTML) rather than our API: treat it as having no body.
+    return undefined
+  }
+}
+
+function isErrorBody(body: unknown): body is ApiErrorBody {
+  const error = (body as ApiErrorBody | undefined)?.error
+  return typeof error?.code === 'string' && typeof error.message === 'string'
+}
+
+function toApiError(status: number, body: unknown): ApiError {
+  if (isErrorBody(body)) return new ApiError(status, body.error.code, body.error.message, body.error.fields ?? {})
+  const message =
+    status >= 500
+      ? `The server is not answering properly (HTTP ${status}). Try again in a moment.`
+      : `The request failed (HTTP ${status}).`
+  return new ApiError(status, `http-${status}`, message)
+}
+
+/** Shorthands for the resource modules. */
+export const http = {
+  get: <T>(path: string, options?: Omit<RequestOptions, 'body'>) => request<T>('GET', path, options),
+  post: <T>(path: string, body?: unknown, options?: RequestOptions) => request<T>('POST', path, { ...options, body }),
+  put: <T>(path: string, body?: unknown, options?: RequestOptions) => request<T>('PUT', path, { ...options, body }),
+  patch: <T>(path: string, body?: unknown, options?: RequestOptions) => request<T>('PATCH', path, { ...options, body }),
+  delete: <T>(path: string, options?: Omit<RequestOptions, 'body'>) => request<T>('DELETE', path, options),
+}

@@ -1,0 +1,119 @@
+/**
+ * Routes, lazy-loaded views and the two guards: signed out → sign-in (with a way back), and a role that may not
+ * do the route's `meta.requires` action in any of the person's labs → Forbidden. The server enforces the same
+ * permissions; these guards only spare people pages they cannot use.
+ */
+import { createRouter, createWebHistory, type RouteRecordRaw, type Router, type RouterHistory } from 'vue-router'
+import { PERMISSIONS, type LabAction } from '@shared/auth/permissions'
+import { useSessionStore } from '@/stores/session'
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    /** Shown in the browser tab. */
+    title?: string
+    /** Reachable without signing in. */
+    public?: boolean
+    /** The action the person's role must allow in at least one lab. */
+    requires?: LabAction
+  }
+}
+
+export type RouteName =
+  | 'sign-in'
+  | 'overview'
+  | 'projects'
+  | 'project-detail'
+  | 'samples'
+  | 'images'
+  | 'compare'
+  | 'review'
+  | 'lab-admin'
+  | 'mailbox'
+  | 'forbidden'
+  | 'not-found'
+
+type NamedRoute = RouteRecordRaw & { name: RouteName }
+
+const shellRoutes: NamedRoute[] = [
+  { path: '', name: 'overview', component: () => import('@/views/OverviewView.vue'), meta: { title: 'Overview' } },
+  { path: 'projects', name: 'projects', component: () => import('@/views/ProjectsView.vue'), meta: { title: 'Projects' } },
+  {
+    path: 'projects/:projectId(\\d+)',
+    name: 'project-detail',
+    component: () => import('@/views/ProjectDetailView.vue'),
+    props: (route) => ({ projectId: Number(route.params.projectId) }),
+    meta: { title: 'Project' },
+  },
+  { path: 'samples', name: 'samples', component: () => import('@/views/SamplesView.vue'), meta: { title: 'Samples' } },
+  { path: 'images', name: 'images', component: () => import('@/views/ImagesView.vue'), meta: { title: 'Images' } },
+  {
+    path: 'compare',
+    name: 'compare',
+    component: () => import('@/views/CompareView.vue'),
+    meta: { title: 'Compare', requires: 'comparison.use' },
+  },
+  {
+    path: 'review',
+    name: 'review',
+    component: () => import('@/views/ReviewView.vue'),
+    meta: { title: 'Review', requires: 'analysis.review' },
+  },
+  {
+    path: 'lab-admin',
+    name: 'lab-admin',
+    component: () => import('@/views/LabAdminView.vue'),
+    meta: { title: 'Lab admin', requires: 'lab.manage' },
+  },
+  { path: 'dev/mailbox', name: 'mailbox', component: () => import('@/views/MailboxView.vue'), meta: { title: 'Mailbox (dev)' } },
+  { path: 'forbidden', name: 'forbidden', component: () => import('@/views/ForbiddenView.vue'), meta: { title: 'Not allowed' } },
+  { path: ':pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
+]
+
+export const routes: RouteRecordRaw[] = [
+  {
+    path: '/sign-in',
+    name: 'sign-in',
+    component: () => import('@/views/SignInView.vue'),
+    meta: { title: 'Sign in', public: true },
+  } satisfies NamedRoute,
+  { path: '/', component: () => import('@/components/AppShell.vue'), children: shellRoutes },
+]
+
+/** A `redirect` query value we may navigate to: an in-app path only, never another site (`//evil.example`). */
+export function safeRedirect(value: unknown): string | null {
+  return typeof value === 'string' && value.startsWith('/') && !value.startsWith('//') ? value : null
+}
+
+/** True for a query value naming an action of the permissions table. */
+export function isLabAction(value: unknown): value is LabAction {
+  return typeof value === 'string' && Object.hasOwn(PERMISSIONS, value)
+}
+
+/** Build the router with its guards; tests pass a memory history. */
+export function createAppRouter(history: RouterHistory = createWebHistory(import.meta.env.BASE_URL)): Router {
+  const router = createRouter({ history, routes, scrollBehavior: () => ({ top: 0 }) })
+
+  router.beforeEach(async (to) => {
+    const session = useSessionStore()
+    await session.restore()
+
+    if (to.meta.public) {
+      if (to.name === 'sign-in' && session.isSignedIn) return safeRedirect(to.query.redirect) ?? { name: 'overview' }
+      return true
+    }
+    if (!session.isSignedIn) {
+      return { name: 'sign-in', query: to.fullPath === '/' ? {} : { redirect: to.fullPath } }
+    }
+    const required = to.meta.requires
+    if (required && !session.can(required)) {
+      return { name: 'forbidden', query: { action: required, from: to.fullPath } }
+    }
+    return true
+  })
+
+  router.afterEach((to) => {
+    document.title = to.meta.title ? `${to.meta.title} · Remanence` : 'Remanence'
+  })
+
+  return router
+}

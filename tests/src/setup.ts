@@ -1,0 +1,7 @@
+import { vi } from 'vitest'
+// Element Plus and chart components ask for a 2-D canvas context, which happy-dom does not provide.
+import 'vitest-canvas-mock'
+
+// The first test in a file that mounts or routes to a view transforms all of Element Plus (inlined for vitest,
+// see vitest.config.ts), which takes several seconds on its own.
+vi.setConfig({ testTimeout: 30_000 })
