@@ -22,6 +22,8 @@ import { registerAuthRoutes } from './routes/auth'
 import { registerLabRoutes } from './routes/labs'
 import { registerProjectRoutes } from './routes/projects'
 import { registerDevRoutes } from './routes/dev'
+import { registerImageRoutes } from './routes/images'
+import { createImageService } from './services/imageService'
 
 export interface AppDeps {
   config: AppConfig
@@ -67,6 +69,7 @@ export function createApp(deps: AppDeps) {
   registerAuthRoutes(api, deps, passport)
   registerLabRoutes(api)
   registerProjectRoutes(api)
+  registerImageRoutes(api, createImageService(deps), config.maxUploadBytes)
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)
   api.router.get('/openapi.json', (_req, res) => res.json(document))

@@ -26,6 +26,8 @@ export interface AppConfig {
   /** Folder the local SMTP sink writes messages to; the dev-only mailbox page reads it. Unset in production. */
   mailSinkDir: string | undefined
   loginRateLimit: { windowMs: number; max: number }
+  /** Largest accepted upload per file, bytes (MAX_UPLOAD_MB). */
+  maxUploadBytes: number
   production: boolean
 }
 
@@ -72,6 +74,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       windowMs: intFromEnv('LOGIN_RATE_WINDOW_MS', 15 * 60 * 1000),
       max: intFromEnv('LOGIN_RATE_MAX', 20),
     },
+    maxUploadBytes: intFromEnv('MAX_UPLOAD_MB', 2048) * 1024 * 1024,
     production,
     ...overrides,
   }

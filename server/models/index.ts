@@ -352,6 +352,7 @@ export function defineModels(sequelize: Sequelize): Models {
   Image.belongsTo(Sample, { foreignKey: 'sampleId' })
   Image.hasMany(Frame, { foreignKey: 'imageId', as: 'frames' })
   Frame.belongsTo(Image, { foreignKey: 'imageId' })
+  Frame.belongsTo(User, { foreignKey: 'assigneeId', as: 'assignee' })
   Frame.hasMany(Annotation, { foreignKey: 'frameId' })
   Annotation.belongsTo(Frame, { foreignKey: 'frameId' })
   Frame.hasMany(Analysis, { foreignKey: 'frameId' })

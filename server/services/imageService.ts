@@ -1,0 +1,320 @@
+/**
+ * Image ingest and reading. The story of an upload: check access → check the bytes (magic number, headers, limits)
+ * → checksum and duplicate check → store the original unchanged and the per-frame derivatives in the object store →
+ * write the image and frame rows in one transaction. Nothing half-written: a failure before the rows are committed
+ * removes every object this upload stored.
+ */
+import { randomUUID, createHash } from 'node:crypto'
+import { createReadStream } from 'node:fs'
+import { readFile } from 'node:fs/promises'
+import { Op, type WhereOptions } from 'sequelize'
+import type { Sequelize } from 'sequelize'
+import { decodeFrame, probeImage, ImageDecodeError, type ImageHeader } from '../../shared/imageio/decodeImage'
+import { parseFramesCsv, validateFramesCsv, FramesCsvError } from '../../shared/imageio/framesCsv'
+import type { Technique } from '../../shared/types/lab'
+import type { ImageDetailDto, ImageSummaryDto, UploadedImageDto } from '../../shared/types/image'
+import type { Page } from '../../shared/types/api'
+import type { SessionUser } from '../auth/sessionUser'
+import { assertLabAction } from '../auth/guards'
+import { AppError, ServiceUnavailableError, notFound } from '../errors'
+import { Frame, Image, Project, Sample, User } from '../models'
+import type { ObjectStore } from '../storage/objectStore'
+import { renderFrame } from './frameRendering'
+import { recordAudit } from './auditService'
+
+export interface UploadedFile {
+  originalName: string
+  path: string
+  size: number
+}
+
+export interface UploadOptions {
+  sampleId?: number | null
+  technique: Technique
+  pixelSizeNm?: number | null
+  notes?: string
+  acquiredAt?: Date | null
+}
+
+export const frameObjectKey = (image: { objectKey: string }, index: number, kind: 'preview.png' | 'thumbnail.png' | 'pixels.bin') =>
+  `${image.objectKey.replace(/\/original[^/]*$/, '')}/frames/${index}/${kind}`
+
+async function sha256OfFile(path: string): Promise<string> {
+  const hash = createHash('sha256')
+  for await (const chunk of createReadStream(path)) hash.update(chunk as Buffer)
+  return hash.digest('hex')
+}
+
+function decodeErrorToAppError(err: unknown, fileName: string): AppError {
+  if (err instanceof ImageDecodeError) return new AppError(err.status, err.code, err.message, { file: fileName })
+  if (err instanceof FramesCsvError) return new AppError(400, err.code, err.message, { file: fileName })
+  return new AppError(400, 'corrupt-image', `${fileName}: the file could not be read as an image (${(err as Error).message}).`, { file: fileName })
+}
+
+/** Raw little-endian pixels of one frame (what the viewer reads for the pixel readout and the workspace for masks). */
+function pixelBytes(frame: { data: Uint8Array | Uint16Array | Float32Array }): Buffer {
+  return Buffer.from(frame.data.buffer, frame.data.byteOffset, frame.data.byteLength)
+}
+
+export function createImageService(deps: { sequelize: Sequelize; store: ObjectStore }) {
+  const { store, sequelize } = deps
+
+  async function loadProjectFor(user: SessionUser, projectId: number, action: Parameters<typeof assertLabAction>[2]) {
+    const project = await Project.findOne({ where: { id: projectId, deletedAt: null } })
+    if (!project) throw notFound('project')
+    assertLabAction(user, project.labId, action, 'project')
+    return project
+  }
+
+  /** Validate one file without storing anything: magic bytes, headers, limits. */
+  async function inspect(file: UploadedFile): Promise<{ header: ImageHeader; bytes: Uint8Array }> {
+    if (file.size === 0) throw new AppError(400, 'empty-file', `${file.originalName}: the file is empty.`, { file: file.originalName })
+    const bytes = new Uint8Array(await readFile(file.path))
+    try {
+      return { header: await probeImage(bytes, file.originalName), bytes }
+    } catch (err) {
+      throw decodeErrorToAppError(err, file.originalName)
+    }
+  }
+
+  async function upload(user: SessionUser, projectId: number, files: UploadedFile[], framesCsv: UploadedFile | undefined, options: UploadOptions): Promise<UploadedImageDto[]> {
+    const project = await loadProjectFor(user, projectId, 'image.upload')
+    if (files.length === 0) throw new AppError(400, 'no-files', 'Choose at least one image file to upload.')
+    if (options.sampleId != null) {
+      const sample = await Sample.findOne({ where: { id: options.sampleId, projectId } })
+      if (!sample) throw new AppError(400, 'sample-not-in-project', 'The chosen sample does not belong to this project.')
+    }
+    // Everything is checked before anything is stored, so a bad file in a batch stores nothing.
+    const inspected = []
+    for (const file of files) inspected.push({ file, ...(await inspect(file)) })
+    const csvText = framesCsv ? await readFile(framesCsv.path, 'utf8') : null
+    const frameTable = csvText != null ? parseCsvFor(csvText, framesCsv!.originalName, inspected) : null
+
+    const results: UploadedImageDto[] = []
+    for (const item of inspected) results.push(await storeOne(user, project, item, frameTable, options))
+    return results
+  }
+
+  function parseCsvFor(text: string, name: string, inspected: { header: ImageHeader; file: UploadedFile }[]) {
+    if (inspected.length !== 1) throw new AppError(400, 'invalid-frames-csv', `${name}: a frames CSV goes with exactly one image or stack per upload.`, { file: name })
+    try {
+      const parsed = parseFramesCsv(text)
+      return validateFramesCsv(parsed, inspected[0].header.frameCount)
+    } catch (err) {
+      throw decodeErrorToAppError(err, name)
+    }
+  }
+
+  async function storeOne(
+    user: SessionUser,
+    project: Project,
+    item: { file: UploadedFile; header: ImageHeader; bytes: Uint8Array },
+    frameTable: ReturnType<typeof validateFramesCsv> | null,
+    options: UploadOptions,
+  ): Promise<UploadedImageDto> {
+    const { file, header } = item
+    const sha256 = await sha256OfFile(file.path)
+    const existing = await Image.findOne({ where: { projectId: project.id, sha256, deletedAt: null } })
+    if (existing) {
+      return { ...toUploadedDto(existing), duplicateOf: existing.id }
+    }
+    const extension = header.format === 'tiff' ? '.tif' : header.format === 'png' ? '.png' : '.jpg'
+    const objectKey = `labs/${project.labId}/images/${randomUUID()}/original${extension}`
+    const stored: string[] = []
+    try {
+      await store.put(objectKey, createReadStream(file.path), header.mediaType)
+      stored.push(objectKey)
+      for (let index = 0; index < header.frameCount; index++) {
+        const frame = await decodeFrame(item.bytes, file.originalName, index).catch((err) => {
+          throw decodeErrorToAppError(err, file.originalName)
+        })
+        const { preview, thumbnail } = await renderFrame(frame)
+        for (const [kind, body, type] of [
+          ['preview.png', preview, 'image/png'],
+          ['thumbnail.png', thumbnail, 'image/png'],
+          ['pixels.bin', pixelBytes(frame), 'application/octet-stream'],
+        ] as const) {
+          const key = frameObjectKey({ objectKey }, index, kind)
+          await store.put(key, body, type)
+          stored.push(key)
+        }
+      }
+      const pixelSizeNm = options.pixelSizeNm ?? header.pixelSizeNm
+      const pixelSizeSource = options.pixelSizeNm != null ? 'typed' : header.pixelSizeNm != null ? header.pixelSizeSource : null
+      return await sequelize.transaction(async (transaction) => {
+        const image = await Image.create(
+          {
+            projectId: project.id,
+            sampleId: options.sampleId ?? null,
+            uploadedById: user.id,
+            name: file.originalName,
+            technique: options.technique,
+            objectKey,
+            sha256,
+            byteSize: file.size,
+            mediaType: header.mediaType,
+            width: header.width,
+            height: header.height,
+            bitDepth: header.bitDepth,
+            frameCount: header.frameCount,
+            pixelSizeNm,
+            pixelSizeSource,
+            notes: options.notes ?? '',
+            acquiredAt: options.acquiredAt ?? null,
+            deletedAt: null,
+          },
+          { transaction },
+        )
+        const rows = Array.from({ length: header.frameCount }, (_, index) => {
+          const row = frameTable?.rows.find((r) => r.frame === index)
+          return {
+            imageId: image.id,
+            index,
+            field: row?.field ?? null,
+            fieldUnit: row?.field != null ? (frameTable?.fieldUnit ?? null) : null,
+            temperatureK: row?.temperatureK ?? null,
+            assigneeId: null,
+          }
+        })
+        await Frame.bulkCreate(rows, { transaction })
+        await recordAudit({ labId: project.labId, actorId: user.id, action: 'image.upload', entityType: 'image', entityId: image.id, after: { name: image.name, sha256, frameCount: header.frameCount } }, transaction)
+        return toUploadedDto(image)
+      })
+    } catch (err) {
+      await Promise.allSettled(stored.map((key) => store.remove(key)))
+      if (err instanceof AppError || isDatabaseError(err)) throw err
+      throw new ServiceUnavailableError('storage', `${file.originalName}: the image store is not reachable right now; nothing was saved. Try again in a moment.`)
+    }
+  }
+
+  async function findImageFor(user: SessionUser, imageId: number, action: Parameters<typeof assertLabAction>[2] = 'lab.read') {
+    const image = await Image.findOne({ where: { id: imageId, deletedAt: null }, include: [{ model: Project, attributes: ['id', 'labId'] }] })
+    if (!image) throw notFound('image')
+    const labId = (image as unknown as { Project: Project }).Project.labId
+    assertLabAction(user, labId, action, 'image')
+    return { image, labId }
+  }
+
+  async function getDetail(user: SessionUser, imageId: number): Promise<ImageDetailDto> {
+    const { image } = await findImageFor(user, imageId)
+    const frames = await Frame.findAll({ where: { imageId }, order: [['index', 'ASC']], include: [{ model: User, as: 'assignee', attributes: ['id', 'name'] }] })
+    const sample = image.sampleId ? await Sample.findByPk(image.sampleId) : null
+    return {
+      ...toSummaryDto(image, frames),
+      notes: image.notes,
+      pixelSizeSource: image.pixelSizeSource,
+      mediaType: image.mediaType,
+      byteSize: image.byteSize,
+      sample: sample ? { id: sample.id, name: sample.name, annealTemperatureC: sample.annealTemperatureC } : null,
+      frames: frames.map((f) => ({
+        id: f.id,
+        index: f.index,
+        field: f.field,
+        fieldUnit: f.fieldUnit,
+        temperatureK: f.temperatureK,
+        annotationStatus: f.annotationStatus,
+        assignee: (f as unknown as { assignee?: User }).assignee ? { id: (f as unknown as { assignee: User }).assignee.id, name: (f as unknown as { assignee: User }).assignee.name } : null,
+      })),
+    }
+  }
+
+  async function readFrameObject(user: SessionUser, imageId: number, index: number, kind: 'preview.png' | 'thumbnail.png' | 'pixels.bin') {
+    const { image } = await findImageFor(user, imageId)
+    if (!Number.isInteger(index) || index < 0 || index >= image.frameCount) throw notFound('frame')
+    return { body: await store.get(frameObjectKey(image, index, kind)), image }
+  }
+
+  async function list(
+    user: SessionUser,
+    query: { projectId?: number; sampleId?: number; technique?: Technique; status?: string; from?: Date; to?: Date; search?: string; page: number; pageSize: number; sort: string; order: 'asc' | 'desc' },
+  ): Promise<Page<ImageSummaryDto>> {
+    const labIds = user.memberships.map((m) => m.labId)
+    const projects = await Project.findAll({ attributes: ['id'], where: { labId: labIds, deletedAt: null, ...(query.projectId ? { id: query.projectId } : {}) } })
+    if (query.projectId && projects.length === 0) throw notFound('project')
+    const where: WhereOptions = { projectId: projects.map((p) => p.id), deletedAt: null }
+    if (query.sampleId) Object.assign(where, { sampleId: query.sampleId })
+    if (query.technique) Object.assign(where, { technique: query.technique })
+    if (query.search) Object.assign(where, { name: { [Op.iLike]: `%${query.search.replace(/[%_\\]/g, '\\$&')}%` } })
+    if (query.from || query.to) {
+      Object.assign(where, { createdAt: { ...(query.from ? { [Op.gte]: query.from } : {}), ...(query.to ? { [Op.lte]: query.to } : {}) } })
+    }
+    if (query.status) {
+      Object.assign(where, { id: { [Op.in]: sequelize.literal(`(SELECT image_id FROM frames WHERE annotation_status = ${sequelize.escape(query.status)})`) } })
+    }
+    const sortColumn = ({ name: 'name', createdAt: 'createdAt', frameCount: 'frameCount', technique: 'technique' } as Record<string, string>)[query.sort] ?? 'createdAt'
+    const { rows, count } = await Image.findAndCountAll({ where, order: [[sortColumn, query.order.toUpperCase()], ['id', 'ASC']], limit: query.pageSize, offset: (query.page - 1) * query.pageSize })
+    const frames = await Frame.findAll({ where: { imageId: rows.map((r) => r.id) }, attributes: ['imageId', 'annotationStatus'] })
+    return { items: rows.map((r) => toSummaryDto(r, frames.filter((f) => f.imageId === r.id))), total: count, page: query.page, pageSize: query.pageSize }
+  }
+
+  async function updateMetadata(user: SessionUser, imageId: number, patch: { name?: string; technique?: Technique; sampleId?: number | null; pixelSizeNm?: number | null; pixelSizeSource?: string; notes?: string; acquiredAt?: Date | null }) {
+    const { image, labId } = await findImageFor(user, imageId, 'image.editMetadata')
+    if (patch.sampleId != null && !(await Sample.findOne({ where: { id: patch.sampleId, projectId: image.projectId } }))) {
+      throw new AppError(400, 'sample-not-in-project', 'The chosen sample does not belong to this project.')
+    }
+    const before = { name: image.name, technique: image.technique, sampleId: image.sampleId, pixelSizeNm: image.pixelSizeNm, pixelSizeSource: image.pixelSizeSource, notes: image.notes, acquiredAt: image.acquiredAt }
+    const changes = { ...patch, ...(patch.pixelSizeNm !== undefined && !patch.pixelSizeSource ? { pixelSizeSource: patch.pixelSizeNm == null ? null : 'typed' } : {}) }
+    await sequelize.transaction(async (transaction) => {
+      await image.update(changes, { transaction })
+      await recordAudit({ labId, actorId: user.id, action: 'image.update', entityType: 'image', entityId: image.id, before, after: changes }, transaction)
+    })
+    return getDetail(user, imageId)
+  }
+
+  async function updateFrames(user: SessionUser, imageId: number, rows: { index: number; field: number | null; fieldUnit: string | null; temperatureK: number | null }[]) {
+    const { image, labId } = await findImageFor(user, imageId, 'image.editMetadata')
+    for (const row of rows) if (row.index < 0 || row.index >= image.frameCount) throw new AppError(400, 'invalid-frame-index', `Frame ${row.index} does not exist (the image has ${image.frameCount}).`)
+    await sequelize.transaction(async (transaction) => {
+      const frames = await Frame.findAll({ where: { imageId }, transaction })
+      const before = frames.map((f) => ({ index: f.index, field: f.field, fieldUnit: f.fieldUnit, temperatureK: f.temperatureK }))
+      for (const row of rows) {
+        const frame = frames.find((f) => f.index === row.index)!
+        await frame.update({ field: row.field, fieldUnit: row.field == null ? null : row.fieldUnit, temperatureK: row.temperatureK }, { transaction })
+      }
+      await recordAudit({ labId, actorId: user.id, action: 'frames.update', entityType: 'image', entityId: imageId, before: { frames: before }, after: { frames: rows } }, transaction)
+    })
+    return getDetail(user, imageId)
+  }
+
+  async function assignFrames(user: SessionUser, imageIds: number[], assigneeId: number | null) {
+    const images = await Image.findAll({ where: { id: imageIds, deletedAt: null }, include: [{ model: Project, attributes: ['labId'] }] })
+    if (images.length !== new Set(imageIds).size) throw notFound('image')
+    const labIds = new Set(images.map((i) => (i as unknown as { Project: Project }).Project.labId))
+    for (const labId of labIds) assertLabAction(user, labId, 'image.assign', 'image')
+    if (assigneeId != null) {
+      const member = await sequelize.models.Membership.findOne({ where: { userId: assigneeId, labId: [...labIds], active: true } })
+      if (!member || labIds.size !== 1) throw new AppError(400, 'assignee-not-in-lab', 'The assignee must be an active member of the images\u2019 lab.')
+    }
+    await sequelize.transaction(async (transaction) => {
+      await Frame.update({ assigneeId }, { where: { imageId: imageIds }, transaction })
+      await recordAudit({ labId: [...labIds][0], actorId: user.id, action: 'frames.assign', entityType: 'image', entityId: null, after: { imageIds, assigneeId } }, transaction)
+    })
+    return { updatedImages: images.length }
+  }
+
+  return { upload, getDetail, readFrameObject, list, updateMetadata, updateFrames, assignFrames, findImageFor }
+}
+
+export type ImageService = ReturnType<typeof createImageService>
+
+function isDatabaseError(err: unknown): boolean {
+  return typeof (err as { name?: string }).name === 'string' && (err as { name: string }).name.startsWith('Sequelize')
+}
+
+function toUploadedDto(image: Image): UploadedImageDto {
+  return { id: image.id, name: image.name, sha256: image.sha256, width: image.width, height: image.height, bitDepth: image.bitDepth, frameCount: image.frameCount, pixelSizeNm: image.pixelSizeNm }
+}
+
+function toSummaryDto(image: Image, frames: { annotationStatus: string }[]): ImageSummaryDto {
+  const statuses = frames.map((f) => f.annotationStatus)
+  const annotationStatus = statuses.length && statuses.every((s) => s === 'submitted') ? 'submitted' : statuses.some((s) => s !== 'new') ? 'in-progress' : 'new'
+  return {
+    ...toUploadedDto(image),
+    projectId: image.projectId,
+    sampleId: image.sampleId,
+    technique: image.technique,
+    createdAt: image.createdAt.toISOString(),
+    acquiredAt: image.acquiredAt ? image.acquiredAt.toISOString() : null,
+    annotationStatus,
+  }
+}

@@ -1,0 +1,44 @@
+import type { Technique } from './lab'
+
+/** What POST /api/projects/:projectId/images answers per file. `duplicateOf` is set when the same bytes exist already. */
+export interface UploadedImageDto {
+  id: number
+  name: string
+  sha256: string
+  width: number
+  height: number
+  bitDepth: number
+  frameCount: number
+  pixelSizeNm: number | null
+  duplicateOf?: number
+}
+
+export type FrameAnnotationStatus = 'new' | 'in-progress' | 'submitted'
+
+export interface ImageSummaryDto extends UploadedImageDto {
+  projectId: number
+  sampleId: number | null
+  technique: Technique
+  createdAt: string
+  acquiredAt: string | null
+  annotationStatus: FrameAnnotationStatus
+}
+
+export interface FrameDto {
+  id: number
+  index: number
+  field: number | null
+  fieldUnit: string | null
+  temperatureK: number | null
+  annotationStatus: string
+  assignee: { id: number; name: string } | null
+}
+
+export interface ImageDetailDto extends ImageSummaryDto {
+  notes: string
+  pixelSizeSource: string | null
+  mediaType: string
+  byteSize: number
+  sample: { id: number; name: string; annealTemperatureC: number | null } | null
+  frames: FrameDto[]
+}

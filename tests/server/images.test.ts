@@ -1,0 +1,237 @@
+/**
+ * Image ingest against the real PostgreSQL and s3rver: good uploads, duplicates, every bad input, and isolation
+ * between labs. After each refused upload: the documented 4xx, no rows, no objects, and the server still healthy.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import request from 'supertest'
+import { deflateSync } from 'node:zlib'
+import { createLabWithRoles, signIn, startTestApp } from './testApp'
+import { encodeTiff } from '../../shared/imageio/encodeTiff'
+import { Frame, Image } from '../../server/models'
+import type { GrayImage } from '../../shared/analysis/types'
+
+function ramp(width: number, height: number, offset = 0): GrayImage {
+  const data = new Uint16Array(width * height)
+  for (let i = 0; i < data.length; i++) data[i] = (i * 7 + offset * 131) % 65536
+  return { width, height, data }
+}
+
+/** A PNG whose header declares width × height but whose data is tiny (a decompression bomb). */
+function pngDeclaring(width: number, height: number): Buffer {
+  const crcTable = Array.from({ length: 256 }, (_, n) => {
+    let c = n
+    for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1
+    return c >>> 0
+  })
+  const crc = (buf: Buffer) => {
+    let c = 0xffffffff
+    for (const b of buf) c = crcTable[(c ^ b) & 0xff] ^ (c >>> 8)
+    return (c ^ 0xffffffff) >>> 0
+  }
+  const chunk = (type: string, data: Buffer) => {
+    const len = Buffer.alloc(4)
+    len.writeUInt32BE(data.length)
+    const body = Buffer.concat([Buffer.from(type, 'ascii'), data])
+    const sum = Buffer.alloc(4)
+    sum.writeUInt32BE(crc(body))
+    return Buffer.concat([len, body, sum])
+  }
+  const ihdr = Buffer.alloc(13)
+  ihdr.writeUInt32BE(width, 0)
+  ihdr.writeUInt32BE(height, 4)
+  ihdr[8] = 8 // bit depth
+  ihdr[9] = 0 // greyscale
+  return Buffer.concat([Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]), chunk('IHDR', ihdr), chunk('IDAT', deflateSync(Buffer.alloc(1000))), chunk('IEND', Buffer.alloc(0))])
+}
+
+describe('images', () => {
+  let ctx: ReturnType<typeof startTestApp>
+  let home: Awaited<ReturnType<typeof createLabWithRoles>>
+  let other: Awaited<ReturnType<typeof createLabWithRoles>>
+  let microscopist: Awaited<ReturnType<typeof signIn>>
+
+  const objectCount = async () => (await ctx.deps.store.list()).length
+  const state = async () => ({ images: await Image.count(), frames: await Frame.count(), objects: await objectCount() })
+
+  beforeAll(async () => {
+    ctx = startTestApp()
+    await ctx.deps.store.ensureBucket()
+    home = await createLabWithRoles('Ingest')
+    other = await createLabWithRoles('Elsewhere')
+    microscopist = await signIn(ctx.app, home.people.microscopist.email)
+  })
+  afterAll(() => ctx.stop())
+
+  const upload = (files: { name: string; body: Buffer }[], fields: Record<string, string> = {}, csv?: { name: string; body: string }) => {
+    let req = microscopist.agent.post(`/api/projects/${home.project.id}/images`).set('x-csrf-token', microscopist.csrf)
+    for (const [k, v] of Object.entries(fields)) req = req.field(k, v)
+    for (const f of files) req = req.attach('files', f.body, f.name)
+    if (csv) req = req.attach('frames', Buffer.from(csv.body), csv.name)
+    return req
+  }
+
+  describe('POST /api/projects/:projectId/images', () => {
+    it('When a single 16-bit TIFF is uploaded, then 201 with its header values, the original unchanged in the store and preview/thumbnail served', async () => {
+      const tiff = Buffer.from(encodeTiff([ramp(64, 48)], { pixelSizeNm: 250 }))
+      const res = await upload([{ name: 'single.tif', body: tiff }], { technique: 'kerr-polar' })
+      expect(res.status).toBe(201)
+      expect(res.body).toHaveLength(1)
+      const [img] = res.body
+      expect(img).toMatchObject({ name: 'single.tif', width: 64, height: 48, bitDepth: 16, frameCount: 1 })
+      expect(img.pixelSizeNm).toBeCloseTo(250, 6)
+      const { createHash } = await import('node:crypto')
+      expect(img.sha256).toBe(createHash('sha256').update(tiff).digest('hex'))
+      const row = await Image.findByPk(img.id)
+      expect(Buffer.compare(await ctx.deps.store.get(row!.objectKey), tiff)).toBe(0)
+      const preview = await microscopist.agent.get(`/api/images/${img.id}/frames/0/preview.png`)
+      expect(preview.status).toBe(200)
+      expect(preview.headers['content-type']).toBe('image/png')
+      expect(preview.headers['cache-control']).toContain('private')
+      expect(preview.body.subarray(1, 4).toString()).toBe('PNG')
+      const pixels = await microscopist.agent.get(`/api/images/${img.id}/frames/0/pixels.bin`).buffer(true).parse((r, cb) => {
+        const chunks: Buffer[] = []
+        r.on('data', (c: Buffer) => chunks.push(c))
+        r.on('end', () => cb(null, Buffer.concat(chunks)))
+      })
+      const values = new Uint16Array(new Uint8Array(pixels.body as Buffer).buffer.slice(0))
+      expect(Array.from(values.subarray(0, 4))).toEqual([0, 7, 14, 21])
+    })
+
+    it('When a 41-frame 16-bit stack comes with a fields CSV, then 41 frames with their fields in the stated unit', async () => {
+      const frames = Array.from({ length: 41 }, (_, i) => ramp(32, 32, i))
+      const fields = Array.from({ length: 41 }, (_, i) => (i <= 20 ? 20 - 2 * i : -20 + 2 * (i - 20)))
+      const csv = 'frame,field_mT\n' + fields.map((f, i) => `${i},${f}`).join('\n') + '\n'
+      const res = await upload([{ name: 'sweep.tif', body: Buffer.from(encodeTiff(frames)) }], { technique: 'kerr-polar' }, { name: 'sweep.csv', body: csv })
+      expect(res.status).toBe(201)
+      expect(res.body[0].frameCount).toBe(41)
+      const detail = await microscopist.agent.get(`/api/images/${res.body[0].id}`)
+      expect(detail.status).toBe(200)
+      expect(detail.body.frames).toHaveLength(41)
+      expect(detail.body.frames.map((f: { field: number }) => f.field)).toEqual(fields)
+      expect(detail.body.frames[0].fieldUnit).toBe('mT')
+      const last = await microscopist.agent.get(`/api/images/${res.body[0].id}/frames/40/thumbnail.png`)
+      expect(last.status).toBe(200)
+    })
+
+    it('When the same bytes are uploaded again to the project, then it says so and links the existing image without a new row', async () => {
+      const tiff = Buffer.from(encodeTiff([ramp(16, 16, 99)]))
+      const first = await upload([{ name: 'a.tif', body: tiff }])
+      const before = await state()
+      const second = await upload([{ name: 'a-copy.tif', body: tiff }])
+      expect(second.status).toBe(201)
+      expect(second.body[0].duplicateOf).toBe(first.body[0].id)
+      expect(await state()).toEqual(before)
+    })
+
+    const badInputs: { name: string; body: () => Buffer; status: number; code: string; csv?: string }[] = [
+      { name: 'zero bytes', body: () => Buffer.alloc(0), status: 400, code: 'empty-file' },
+      { name: 'text renamed .tif', body: () => Buffer.from('frame,field_mT\n0,1\n'), status: 415, code: 'unsupported-type' },
+      { name: 'truncated PNG', body: () => pngDeclaring(32, 32).subarray(0, 40), status: 400, code: 'corrupt-image' },
+      {
+        name: 'corrupted TIFF',
+        body: () => {
+          const b = Buffer.from(encodeTiff([ramp(32, 32)]))
+          b.writeUInt32LE(0x7ffffff0, 4) // first IFD offset far past the end
+          return b
+        },
+        status: 400,
+        code: 'corrupt-image',
+      },
+      { name: 'decompression bomb (PNG declaring 50,000 × 50,000)', body: () => pngDeclaring(50_000, 50_000), status: 413, code: 'image-too-large' },
+      { name: 'stack with a CSV that does not match its frames', body: () => Buffer.from(encodeTiff([ramp(8, 8), ramp(8, 8, 1)])), status: 400, code: 'invalid-frames-csv', csv: 'frame,field_mT\n0,1\n1,2\n2,3\n' },
+    ]
+    for (const bad of badInputs) {
+      it(`When the upload is a ${bad.name}, then ${bad.status} ${bad.code}, nothing stored, server healthy`, async () => {
+        const before = await state()
+        const res = await upload([{ name: `bad-${bad.code}.tif`, body: bad.body() }], {}, bad.csv ? { name: 'frames.csv', body: bad.csv } : undefined)
+        expect(res.status).toBe(bad.status)
+        expect(res.body.error.code).toBe(bad.code)
+        expect(res.body.error.message).toMatch(/\S{3,}/)
+        if (!bad.csv) expect(res.body.error.file).toBe(`bad-${bad.code}.tif`)
+        expect(await state()).toEqual(before)
+        expect((await request(ctx.app).get('/api/health')).status).toBe(200)
+      })
+    }
+
+    it('When the file exceeds the size limit, then 413 file-too-large and nothing stored', async () => {
+      const small = startTestApp({ maxUploadBytes: 4096 })
+      try {
+        const session = await signIn(small.app, home.people.microscopist.email)
+        const before = await state()
+        const big = Buffer.alloc(10_000)
+        big.set([0x49, 0x49, 42, 0])
+        const res = await session.agent.post(`/api/projects/${home.project.id}/images`).set('x-csrf-token', session.csrf).attach('files', big, 'huge.tif')
+        expect(res.status).toBe(413)
+        expect(res.body.error.code).toBe('file-too-large')
+        expect(await state()).toEqual(before)
+      } finally {
+        await small.stop()
+      }
+    })
+
+    it('When the object store is unreachable, then a clean 503-class error, no row and nothing half-written', async () => {
+      const broken = startTestApp({ s3: { ...ctx.deps.config.s3, endpoint: 'http://127.0.0.1:9' } })
+      try {
+        const session = await signIn(broken.app, home.people.microscopist.email)
+        const before = { images: await Image.count(), frames: await Frame.count() }
+        const res = await session.agent
+          .post(`/api/projects/${home.project.id}/images`)
+          .set('x-csrf-token', session.csrf)
+          .attach('files', Buffer.from(encodeTiff([ramp(16, 16, 5)])), 'offline.tif')
+        expect(res.status).toBe(503)
+        expect(res.body.error.code).toBe('storage-unavailable')
+        expect({ images: await Image.count(), frames: await Frame.count() }).toEqual(before)
+      } finally {
+        await broken.stop()
+      }
+    })
+
+    it('When an annotator uploads, then 403 and nothing stored', async () => {
+      const annotator = await signIn(ctx.app, home.people.annotator.email)
+      const res = await annotator.agent
+        .post(`/api/projects/${home.project.id}/images`)
+        .set('x-csrf-token', annotator.csrf)
+        .attach('files', Buffer.from(encodeTiff([ramp(8, 8, 3)])), 'x.tif')
+      expect(res.status).toBe(403)
+    })
+  })
+
+  describe('other labs', () => {
+    it('When a member of another lab asks for the image or its previews, then 404', async () => {
+      const res = await upload([{ name: 'private.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 42)])) }])
+      const id = res.body[0].id
+      const outsider = await signIn(ctx.app, other.people.admin.email)
+      expect((await outsider.agent.get(`/api/images/${id}`)).status).toBe(404)
+      expect((await outsider.agent.get(`/api/images/${id}/frames/0/preview.png`)).status).toBe(404)
+      expect((await outsider.agent.get(`/api/images/${id}/frames/0/thumbnail.png`)).status).toBe(404)
+      const list = await outsider.agent.get('/api/images')
+      expect(list.body.items.map((i: { id: number }) => i.id)).not.toContain(id)
+    })
+  })
+
+  describe('GET /api/images', () => {
+    it('When paginated and sorted by name, then pages are consistent and totals right', async () => {
+      const page1 = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&pageSize=2&page=1&sort=name&order=asc`)
+      const page2 = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&pageSize=2&page=2&sort=name&order=asc`)
+      expect(page1.status).toBe(200)
+      expect(page1.body.total).toBe(await Image.count({ where: { projectId: home.project.id } }))
+      const names = [...page1.body.items, ...page2.body.items].map((i: { name: string }) => i.name)
+      expect(names).toEqual([...names].sort())
+    })
+  })
+
+  describe('PATCH /api/images/:imageId', () => {
+    it('When the pixel size is typed in, then it is stored with its source and the edit is audited', async () => {
+      const res = await upload([{ name: 'calib.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 77)])) }])
+      const id = res.body[0].id
+      const patch = await microscopist.agent.patch(`/api/images/${id}`).set('x-csrf-token', microscopist.csrf).send({ pixelSizeNm: 80 })
+      expect(patch.status).toBe(200)
+      expect(patch.body.pixelSizeNm).toBe(80)
+      expect(patch.body.pixelSizeSource).toBe('typed')
+      const { AuditEvent } = await import('../../server/models')
+      const audit = await AuditEvent.findOne({ where: { entityType: 'image', entityId: id, action: 'image.update' } })
+      expect(audit!.before).toMatchObject({ pixelSizeNm: null })
+      expect(audit!.after).toMatchObject({ pixelSizeNm: 80 })
+    })
+  })
+})
