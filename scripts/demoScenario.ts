@@ -55,3 +55,30 @@ export const DEMO_PROJECTS = [
     ],
   },
 ]
+
+/** Which generated sample file (samples/, scripts/generateSamples.ts) goes to which demo sample, with its metadata. */
+export const DEMO_IMAGES: { file: string; frames?: string; sample: string; technique: 'kerr-polar'; notes: string; acquiredAt: string }[] = [
+  ...[200, 250, 300, 350].map((t, i) => ({
+    file: `KB24-A${t}_remanent.tif`,
+    sample: `KB24-A${t}`,
+    technique: 'kerr-polar' as const,
+    notes: '50× objective (NA 0.8), LED 525 nm, difference image against the saturated state, remanent state after +/- saturation.',
+    acquiredAt: `2026-11-${String(9 + i).padStart(2, '0')}T10:30:00Z`,
+  })),
+  {
+    file: 'KB24-A300_field-sweep.tif',
+    frames: 'KB24-A300_field-sweep.csv',
+    sample: 'KB24-A300',
+    technique: 'kerr-polar',
+    notes: 'Field sweep +20 → −20 → +20 mT along the film normal, 1 mT steps, Hall probe at the sample.',
+    acquiredAt: '2026-11-12T14:05:00Z',
+  },
+  {
+    file: 'GF-7_temperature-ramp.tif',
+    frames: 'GF-7_temperature-ramp.csv',
+    sample: 'GF-7 as grown',
+    technique: 'kerr-polar',
+    notes: 'Hot-stage ramp 300 → 420 K in 5 K steps, 2 min settling per step, zero field.',
+    acquiredAt: '2026-11-20T09:00:00Z',
+  },
+]

@@ -5,8 +5,9 @@
  */
 import type { ChildProcess } from 'node:child_process'
 import { fileURLToPath } from 'node:url'
-import { loadConfig, LOCAL_DEFAULTS } from '../server/config'
-import { createSequelize } from '../server/db'
+import { existsSync, readFileSync } from 'node:fs'
+import { loadConfig } from '../server/config'
+import { createDeps } from '../server/runtime'
 import { migrateToLatest } from '../server/migrator'
 import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
 import { seedDemoLab } from './seed'
@@ -37,14 +38,24 @@ async function startLocalServices() {
   }
 }
 
+/** The demo images are generated (deterministically) when missing, not committed. */
+async function ensureSamples() {
+  const manifest = JSON.parse(readFileSync('samples/manifest.json', 'utf8')) as { files: { file: string }[] }
+  if (manifest.files.some((f) => !existsSync(`samples/${f.file}`))) {
+    console.log('[samples] generating the demo images')
+    await run(tsx, ['scripts/generateSamples.ts'])
+  }
+}
+
 async function prepareDatabase() {
-  const sequelize = createSequelize(process.env.DATABASE_URL ?? LOCAL_DEFAULTS.databaseUrl)
+  const deps = createDeps(loadConfig())
   try {
-    const applied = await migrateToLatest(sequelize)
+    const applied = await migrateToLatest(deps.sequelize)
     console.log(applied.length ? `[migrate] applied ${applied.join(', ')}` : '[migrate] schema is up to date')
-    console.log((await seedDemoLab(sequelize)) ? '[seed] demo lab created' : '[seed] demo lab already present')
+    await deps.store.ensureBucket()
+    console.log((await seedDemoLab(deps)) ? '[seed] demo lab created' : '[seed] demo lab already present')
   } finally {
-    await sequelize.close()
+    await deps.dispose()
   }
 }
 
@@ -60,6 +71,7 @@ process.on('SIGTERM', () => void stopAll(0))
 
 try {
   await startLocalServices()
+  await ensureSamples()
   await prepareDatabase()
   console.log('[build] building the client')
   await run('node_modules/.bin/vite', ['build', '--logLevel', 'warn'])

@@ -1,0 +1,237 @@
+/**
+ * Exact Euclidean distance transform (and feature transform) of one phase of a domain map.
+ *
+ * Method: separable exact squared EDT. Along columns the 1-D problem with a 0/∞ input is just the distance to the
+ * nearest feature above or below (two sweeps, done row by row for contiguous memory access); along rows the lower
+ * envelope of parabolas of P. F. Felzenszwalb & D. P. Huttenlocher (2012), "Distance transforms of sampled
+ * functions", Theory of Computing 8:415–428, DOI 10.4086/toc.2012.v008a019. Linear time in the pixel count.
+ * The feature transform (index of the nearest other-phase pixel) comes for free from the argmins of both passes.
+ * Checked against: brute-force nearest-pixel search on random masks (tests); scipy.ndimage.distance_transform_edt
+ * convention (METHODS §2.3: distance between pixel centres; check #15: 9- and 10-px stripes both give d_max = 5).
+ * Input: row-major phase array, the phase `value` whose pixels get a distance; every pixel whose value differs is
+ * "the other phase" (distance 0). Optional anisotropic sampling {x: ax, y: ay} (distances then in those units).
+ * Output: Float32Array of Euclidean distances in px (or sampling units). If the other phase is absent, every pixel of
+ * the phase gets +Infinity (no distance to a virtual border is invented): callers must handle it.
+ * Buffers: row scratch is cached per width and the column scratch for the last size, so a stack of equal frames
+ * allocates only the outputs (or nothing, with `out` / `nearestOut`). Not re-entrant within one thread (it never
+ * needs to be: the transform is synchronous).
+ */
+
+/** Pixel pitch along x (columns) and y (rows) for anisotropic pixels; default 1 and 1. */
+export interface Sampling {
+  x: number
+  y: number
+}
+
+export interface DistanceTransformOptions {
+  sampling?: Sampling
+  /** Output buffer of width·height floats to reuse. */
+  out?: Float32Array
+  /** Feature-transform output buffer of width·height ints to reuse (`featureTransform` only). */
+  nearestOut?: Int32Array
+}
+
+/** Distances plus, per pixel, the index of the nearest other-phase pixel (−1 when the other phase is absent). */
+export interface FeatureTransformResult {
+  distance: Float32Array
+  nearest: Int32Array
+}
+
+/** Row buffers of the lower-envelope pass, cached per width. */
+interface RowBuffers {
+  /** Input samples f(q). */
+  f: Float64Array
+  /** Envelope parabola vertices. */
+  v: Int32Array
+  /** Envelope parabola heights f(v) + s²v², kept to avoid recomputing them in the pop loop. */
+  h: Float64Array
+  /** Envelope boundaries between parabola k−1 and k. */
+  z: Float64Array
+  /** Output squared distances. */
+  d: Float64Array
+  /** Output argmin positions. */
+  arg: Int32Array
+}
+
+const rowBufferCache = new Map<number, RowBuffers>()
+
+/** Column-pass scratch (nearest other-phase row per pixel), kept for the last image size. */
+let columnScratch = new Int32Array(0)
+
+function rowBuffers(width: number): RowBuffers {
+  let b = rowBufferCache.get(width)
+  if (b === undefined) {
+    b = {
+      f: new Float64Array(width),
+      v: new Int32Array(width),
+      h: new Float64Array(width),
+      z: new Float64Array(width + 1),
+      d: new Float64Array(width),
+      arg: new Int32Array(width),
+    }
+    rowBufferCache.set(width, b)
+  }
+  return b
+}
+
+/**
+ * 1-D squared distance transform d(q) = min_p [s²(q − p)² + f(p)] by the lower envelope of parabolas
+ * (Felzenszwalb & Huttenlocher 2012, Algorithm 1); samples with f = +∞ are skipped so they never enter the envelope.
+ * Returns false (outputs untouched) when every f is infinite.
+ */
+function envelope1d(
+  n: number,
+  s2: number,
+  f: Float64Array,
+  v: Int32Array,
+  h: Float64Array,
+  z: Float64Array,
+  d: Float64Array,
+  arg: Int32Array,
+): boolean {
+  const inv = 1 / (2 * s2)
+  let k = -1
+  for (let q = 0; q < n; q++) {
+    const fq = f[q]
+    if (fq === Infinity) continue
+    const hq = fq + s2 * q * q
+    if (k < 0) {
+      k = 0
+      v[0] = q
+      h[0] = hq
+      z[0] = -Infinity
+      continue
+    }
+    // Intersection of parabolas q and v[k]; z[0] = −∞ ends the pop loop.
+    let s = ((hq - h[k]) / (q - v[k])) * inv
+    while (s <= z[k]) {
+      k--
+      s = ((hq - h[k]) / (q - v[k])) * inv
+    }
+    k++
+    v[k] = q
+    h[k] = hq
+    z[k] = s
+  }
+  if (k < 0) return false
+  z[k + 1] = Infinity
+  k = 0
+  for (let q = 0; q < n; q++) {
+    while (z[k + 1] < q) k++
+    const p = v[k]
+    d[q] = s2 * (q - p) * (q - p) + f[p]
+    arg[q] = p
+  }
+  return true
+}
+
+/**
+ * Nearest other-phase row in the same column for every pixel (−1 if the column has none), by a downward and an
+ * upward sweep over whole rows.
+ */
+function nearestInColumns(phase: Uint8Array, width: number, height: number, value: number, rowArg: Int32Array): void {
+  const last = new Int32Array(width).fill(-1)
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    for (let x = 0; x < width; x++) {
+      if (phase[row + x] !== value) last[x] = y
+      rowArg[row + x] = last[x]
+    }
+  }
+  last.fill(-1)
+  for (let y = height - 1; y >= 0; y--) {
+    const row = y * width
+    for (let x = 0; x < width; x++) {
+      if (phase[row + x] !== value) last[x] = y
+      const below = last[x]
+      if (below < 0) continue
+      const above = rowArg[row + x]
+      if (above < 0 || below - y < y - above) rowArg[row + x] = below
+    }
+  }
+}
+
+function transform(
+  phase: Uint8Array,
+  width: number,
+  height: number,
+  value: number,
+  sampling: Sampling,
+  distance: Float32Array,
+  nearest: Int32Array | null,
+): void {
+  const n = width * height
+  if (columnScratch.length < n) columnScratch = new Int32Array(n)
+  const rowArg = columnScratch
+  nearestInColumns(phase, width, height, value, rowArg)
+  const sy2 = sampling.y * sampling.y
+  const sx2 = sampling.x * sampling.x
+  const { f, v, h, z, d, arg } = rowBuffers(width)
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    for (let x = 0; x < width; x++) {
+      const r = rowArg[row + x]
+      f[x] = r < 0 ? Infinity : sy2 * (y - r) * (y - r)
+    }
+    if (!envelope1d(width, sx2, f, v, h, z, d, arg)) {
+      distance.fill(Infinity, row, row + width)
+      if (nearest !== null) nearest.fill(-1, row, row + width)
+      continue
+    }
+    for (let x = 0; x < width; x++) distance[row + x] = Math.sqrt(d[x])
+    if (nearest !== null) {
+      for (let x = 0; x < width; x++) {
+        const col = arg[x]
+        nearest[row + x] = rowArg[row + col] * width + col
+      }
+    }
+  }
+}
+
+function checkedSampling(sampling: Sampling | undefined): Sampling {
+  if (sampling === undefined) return { x: 1, y: 1 }
+  if (!(sampling.x > 0) || !(sampling.y > 0)) throw new RangeError('sampling must be positive')
+  return sampling
+}
+
+/**
+ * Euclidean distance from every pixel of phase `value` to the nearest pixel centre of the other phase
+ * (scipy `distance_transform_edt` convention); other-phase pixels get 0.
+ * @returns +Infinity for every pixel of the phase when the other phase is absent; an empty array for an empty image.
+ * @example distanceTransform(new Uint8Array([0, 1, 1, 1]), 4, 1, 1) // [0, 1, 2, 3]
+ */
+export function distanceTransform(
+  phase: Uint8Array,
+  width: number,
+  height: number,
+  value: 0 | 1,
+  options: DistanceTransformOptions = {},
+): Float32Array {
+  const n = width * height
+  const out = options.out !== undefined && options.out.length >= n ? options.out : new Float32Array(n)
+  // Degenerate: an empty image has nothing to measure; a missing other phase is handled in the passes (+Infinity).
+  if (n === 0) return out
+  transform(phase, width, height, value, checkedSampling(options.sampling), out, null)
+  return out
+}
+
+/**
+ * Distance transform plus feature transform: `nearest[i]` is the pixel index of (one of) the nearest other-phase
+ * pixel centres of pixel i, i itself for other-phase pixels, −1 when the other phase is absent.
+ */
+export function featureTransform(
+  phase: Uint8Array,
+  width: number,
+  height: number,
+  value: 0 | 1,
+  options: DistanceTransformOptions = {},
+): FeatureTransformResult {
+  const n = width * height
+  const distance = options.out !== undefined && options.out.length >= n ? options.out : new Float32Array(n)
+  const nearest =
+    options.nearestOut !== undefined && options.nearestOut.length >= n ? options.nearestOut : new Int32Array(n)
+  // Degenerate: an empty image has nothing to measure.
+  if (n === 0) return { distance, nearest }
+  transform(phase, width, height, value, checkedSampling(options.sampling), distance, nearest)
+  return { distance, nearest }
+}
