@@ -24,12 +24,16 @@ import { registerProjectRoutes } from './routes/projects'
 import { registerDevRoutes } from './routes/dev'
 import { registerImageRoutes } from './routes/images'
 import { createImageService } from './services/imageService'
+import { registerAnnotationRoutes } from './routes/annotations'
+import { createAnnotationService } from './services/annotationService'
+import type { MaskMeasurer } from './analysis/maskMeasurer'
 
 export interface AppDeps {
   config: AppConfig
   sequelize: Sequelize
   store: ObjectStore
   mailer: Mailer
+  measurer: MaskMeasurer
 }
 
 const DIST_DIR = fileURLToPath(new URL('../dist', import.meta.url))
@@ -70,6 +74,7 @@ export function createApp(deps: AppDeps) {
   registerLabRoutes(api)
   registerProjectRoutes(api)
   registerImageRoutes(api, createImageService(deps), config.maxUploadBytes)
+  registerAnnotationRoutes(api, createAnnotationService(deps))
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)
   api.router.get('/openapi.json', (_req, res) => res.json(document))

@@ -5,9 +5,13 @@
 import { Umzug, SequelizeStorage } from 'umzug'
 import type { QueryInterface, Sequelize } from 'sequelize'
 import * as initialSchema from './migrations/0001-initial-schema'
+import * as annotationConflicts from './migrations/0002-annotation-conflicts'
 
 /** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
-const MIGRATIONS = [{ name: '0001-initial-schema', module: initialSchema }]
+const MIGRATIONS = [
+  { name: '0001-initial-schema', module: initialSchema },
+  { name: '0002-annotation-conflicts', module: annotationConflicts },
+]
 
 export function createMigrator(sequelize: Sequelize) {
   return new Umzug<QueryInterface>({

@@ -6,6 +6,7 @@ import { createObjectStore } from './storage/objectStore'
 import { createMailer } from './mail/mailer'
 import type { AppConfig } from './config'
 import type { AppDeps } from './app'
+import { createPoolMeasurer } from './analysis/poolMeasurer'
 
 /**
  * @param options.sequelize reuse an existing connection (tests run several app instances against one); it is then
@@ -16,14 +17,17 @@ export function createDeps(config: AppConfig, options: { sequelize?: Sequelize }
   defineModels(sequelize)
   const store = createObjectStore(config.s3)
   const mailer = createMailer(config.smtpUrl, config.mailFrom)
+  const measurer = createPoolMeasurer()
   return {
     config,
     sequelize,
     store,
     mailer,
+    measurer,
     async dispose() {
       store.close()
       mailer.close()
+      await measurer.close()
       if (!options.sequelize) await sequelize.close()
     },
   }

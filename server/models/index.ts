@@ -103,7 +103,10 @@ export class Frame extends Model<InferAttributes<Frame>, InferCreationAttributes
 export class Annotation extends Model<InferAttributes<Annotation>, InferCreationAttributes<Annotation>> {
   declare id: CreationOptional<number>
   declare frameId: ForeignKey<Frame['id']>
-  declare version: number
+  /** Null for a conflict copy (a save based on an out-of-date version, kept so nothing is lost). */
+  declare version: number | null
+  declare state: CreationOptional<'saved' | 'conflict'>
+  declare basedOnVersion: number | null
   declare maskKey: string
   declare maskEncoding: string
   declare shapes: CreationOptional<unknown[]>
@@ -123,6 +126,7 @@ export class Analysis extends Model<InferAttributes<Analysis>, InferCreationAttr
   declare createdById: ForeignKey<User['id']> | null
   declare approvedById: ForeignKey<User['id']> | null
   declare approvedAt: Date | null
+  declare error: string | null
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 }
@@ -276,7 +280,9 @@ export function defineModels(sequelize: Sequelize): Models {
   Annotation.init(
     {
       id,
-      version: { type: DataTypes.INTEGER, allowNull: false },
+      version: { type: DataTypes.INTEGER, allowNull: true },
+      state: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'saved' },
+      basedOnVersion: { type: DataTypes.INTEGER, allowNull: true },
       maskKey: { type: DataTypes.STRING(500), allowNull: false },
       maskEncoding: { type: DataTypes.STRING(40), allowNull: false },
       shapes: { type: DataTypes.JSONB, allowNull: false, defaultValue: [] },
@@ -296,6 +302,7 @@ export function defineModels(sequelize: Sequelize): Models {
       createdById: { type: DataTypes.INTEGER, allowNull: true },
       approvedById: { type: DataTypes.INTEGER, allowNull: true },
       approvedAt: { type: DataTypes.DATE, allowNull: true },
+      error: { type: DataTypes.TEXT, allowNull: true },
       ...timestamps,
     },
     base('analyses'),
@@ -355,6 +362,7 @@ export function defineModels(sequelize: Sequelize): Models {
   Frame.belongsTo(User, { foreignKey: 'assigneeId', as: 'assignee' })
   Frame.hasMany(Annotation, { foreignKey: 'frameId' })
   Annotation.belongsTo(Frame, { foreignKey: 'frameId' })
+  Annotation.belongsTo(User, { foreignKey: 'authorId', as: 'author' })
   Frame.hasMany(Analysis, { foreignKey: 'frameId' })
   Analysis.belongsTo(Frame, { foreignKey: 'frameId' })
   Analysis.hasMany(Review, { foreignKey: 'analysisId' })

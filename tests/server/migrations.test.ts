@@ -12,7 +12,7 @@ describe('migrations', () => {
     try {
       const migrator = createMigrator(sequelize)
       const applied = await migrator.up()
-      expect(applied.map((m) => m.name)).toEqual(['0001-initial-schema'])
+      expect(applied.map((m) => m.name)).toEqual(['0001-initial-schema', '0002-annotation-conflicts'])
       const tables = async () =>
         ((await sequelize.getQueryInterface().showAllTables()) as string[]).filter((t) => t !== 'SequelizeMeta').sort()
       const expected = ['analyses', 'annotations', 'audit_events', 'comments', 'frames', 'images', 'labs', 'memberships', 'projects', 'reviews', 'samples', 'session', 'users']
