@@ -83,6 +83,9 @@ try {
     void stopAll(code ?? 1)
   })
   await waitForPort(config.port, 'web server')
+  // One job worker beside the web server; `npm run worker` starts more (here or on other machines).
+  const worker = spawnService('worker', tsx, ['server/worker.ts'], env)
+  children.push(worker)
   console.log(`\nRemanence is up: ${config.publicUrl}\n\nDemo sign-ins (password "${DEMO_PASSWORD}"):`)
   for (const p of DEMO_PEOPLE) console.log(`  ${p.role.padEnd(13)} ${p.email}  (${p.name})`)
   console.log('\nCtrl-C stops everything started here; data stays in .data/.')

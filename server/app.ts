@@ -27,6 +27,9 @@ import { createImageService } from './services/imageService'
 import { registerAnnotationRoutes } from './routes/annotations'
 import { createAnnotationService } from './services/annotationService'
 import type { MaskMeasurer } from './analysis/maskMeasurer'
+import type { JobQueue } from './jobs/jobQueue'
+import { registerStackRunRoutes } from './routes/stackRuns'
+import { createStackRunService } from './services/stackRunService'
 
 export interface AppDeps {
   config: AppConfig
@@ -34,6 +37,7 @@ export interface AppDeps {
   store: ObjectStore
   mailer: Mailer
   measurer: MaskMeasurer
+  jobs: JobQueue
 }
 
 const DIST_DIR = fileURLToPath(new URL('../dist', import.meta.url))
@@ -73,7 +77,9 @@ export function createApp(deps: AppDeps) {
   registerAuthRoutes(api, deps, passport)
   registerLabRoutes(api)
   registerProjectRoutes(api)
-  registerImageRoutes(api, createImageService(deps), config.maxUploadBytes)
+  const images = createImageService(deps)
+  registerImageRoutes(api, images, config.maxUploadBytes)
+  registerStackRunRoutes(api, createStackRunService({ ...deps, images }), deps.store)
   registerAnnotationRoutes(api, createAnnotationService(deps))
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)

@@ -6,11 +6,13 @@ import { Umzug, SequelizeStorage } from 'umzug'
 import type { QueryInterface, Sequelize } from 'sequelize'
 import * as initialSchema from './migrations/0001-initial-schema'
 import * as annotationConflicts from './migrations/0002-annotation-conflicts'
+import * as stackRuns from './migrations/0003-stack-runs'
 
 /** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
 const MIGRATIONS = [
   { name: '0001-initial-schema', module: initialSchema },
   { name: '0002-annotation-conflicts', module: annotationConflicts },
+  { name: '0003-stack-runs', module: stackRuns },
 ]
 
 export function createMigrator(sequelize: Sequelize) {

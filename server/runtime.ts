@@ -7,6 +7,7 @@ import { createMailer } from './mail/mailer'
 import type { AppConfig } from './config'
 import type { AppDeps } from './app'
 import { createPoolMeasurer } from './analysis/poolMeasurer'
+import { createJobQueue } from './jobs/jobQueue'
 
 /**
  * @param options.sequelize reuse an existing connection (tests run several app instances against one); it is then
@@ -18,13 +19,16 @@ export function createDeps(config: AppConfig, options: { sequelize?: Sequelize }
   const store = createObjectStore(config.s3)
   const mailer = createMailer(config.smtpUrl, config.mailFrom)
   const measurer = createPoolMeasurer()
+  const jobs = createJobQueue(config.databaseUrl)
   return {
     config,
     sequelize,
     store,
     mailer,
     measurer,
+    jobs,
     async dispose() {
+      await jobs.close()
       store.close()
       mailer.close()
       await measurer.close()

@@ -166,6 +166,40 @@ export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreation
   declare createdAt: CreationOptional<Date>
 }
 
+export type StackRunStatus = 'queued' | 'running' | 'done' | 'done-with-errors' | 'failed'
+
+export class StackRun extends Model<InferAttributes<StackRun>, InferCreationAttributes<StackRun>> {
+  declare id: CreationOptional<number>
+  declare imageId: ForeignKey<Image['id']>
+  declare recipe: Record<string, unknown>
+  declare engineVersion: string
+  declare status: CreationOptional<StackRunStatus>
+  declare framesTotal: number
+  declare framesDone: CreationOptional<number>
+  declare threshold: number | null
+  declare summary: Record<string, unknown> | null
+  declare error: string | null
+  declare attempts: CreationOptional<number>
+  declare worker: string | null
+  declare heartbeatAt: Date | null
+  declare startedAt: Date | null
+  declare finishedAt: Date | null
+  declare createdById: ForeignKey<User['id']> | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class StackFrameResult extends Model<InferAttributes<StackFrameResult>, InferCreationAttributes<StackFrameResult>> {
+  declare id: CreationOptional<number>
+  declare runId: ForeignKey<StackRun['id']>
+  declare frameIndex: number
+  declare measurements: Record<string, unknown> | null
+  declare maskKey: string | null
+  declare error: string | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
 const id = { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true }
 const timestamps = { createdAt: DataTypes.DATE, updatedAt: DataTypes.DATE }
 
@@ -182,6 +216,8 @@ export interface Models {
   Review: typeof Review
   Comment: typeof Comment
   AuditEvent: typeof AuditEvent
+  StackRun: typeof StackRun
+  StackFrameResult: typeof StackFrameResult
 }
 
 /**
@@ -345,6 +381,41 @@ export function defineModels(sequelize: Sequelize): Models {
     { ...base('audit_events'), updatedAt: false },
   )
 
+  StackRun.init(
+    {
+      id,
+      imageId: { type: DataTypes.INTEGER, allowNull: false },
+      recipe: { type: DataTypes.JSONB, allowNull: false },
+      engineVersion: { type: DataTypes.STRING(40), allowNull: false },
+      status: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'queued' },
+      framesTotal: { type: DataTypes.INTEGER, allowNull: false },
+      framesDone: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      threshold: { type: DataTypes.DOUBLE, allowNull: true },
+      summary: { type: DataTypes.JSONB, allowNull: true },
+      error: { type: DataTypes.TEXT, allowNull: true },
+      attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      worker: { type: DataTypes.STRING(100), allowNull: true },
+      heartbeatAt: { type: DataTypes.DATE, allowNull: true },
+      startedAt: { type: DataTypes.DATE, allowNull: true },
+      finishedAt: { type: DataTypes.DATE, allowNull: true },
+      createdById: { type: DataTypes.INTEGER, allowNull: true },
+      ...timestamps,
+    },
+    base('stack_runs'),
+  )
+  StackFrameResult.init(
+    {
+      id,
+      runId: { type: DataTypes.INTEGER, allowNull: false },
+      frameIndex: { type: DataTypes.INTEGER, allowNull: false },
+      measurements: { type: DataTypes.JSONB, allowNull: true },
+      maskKey: { type: DataTypes.STRING(500), allowNull: true },
+      error: { type: DataTypes.TEXT, allowNull: true },
+      ...timestamps,
+    },
+    base('stack_frame_results'),
+  )
+
   Lab.hasMany(Membership, { foreignKey: 'labId' })
   Membership.belongsTo(Lab, { foreignKey: 'labId' })
   User.hasMany(Membership, { foreignKey: 'userId' })
@@ -367,8 +438,11 @@ export function defineModels(sequelize: Sequelize): Models {
   Analysis.belongsTo(Frame, { foreignKey: 'frameId' })
   Analysis.hasMany(Review, { foreignKey: 'analysisId' })
   Analysis.hasMany(Comment, { foreignKey: 'analysisId' })
+  Image.hasMany(StackRun, { foreignKey: 'imageId' })
+  StackRun.belongsTo(Image, { foreignKey: 'imageId' })
+  StackRun.hasMany(StackFrameResult, { foreignKey: 'runId', as: 'frameResults' })
 
   return models
 }
 
-const models: Models = { User, Lab, Membership, Project, Sample, Image, Frame, Annotation, Analysis, Review, Comment, AuditEvent }
+const models: Models = { User, Lab, Membership, Project, Sample, Image, Frame, Annotation, Analysis, Review, Comment, AuditEvent, StackRun, StackFrameResult }

@@ -41,8 +41,25 @@ export async function recreateDatabase(databaseUrl: string): Promise<void> {
   }
 }
 
+/** Drop a database (test teardown). */
+export async function dropDatabase(databaseUrl: string): Promise<void> {
+  const url = new URL(databaseUrl)
+  const name = url.pathname.slice(1)
+  url.pathname = '/postgres'
+  const admin = new pg.Client({ connectionString: url.toString() })
+  await admin.connect()
+  try {
+    await admin.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`)
+  } finally {
+    await admin.end()
+  }
+}
+
 export default async function setup(project: TestProject) {
-  const databaseUrl = process.env.TEST_DATABASE_URL ?? DEFAULT_URL
+  // A database of its own per test run (suffixed with the process id), so two runs never drop each other's data.
+  const base = new URL(process.env.TEST_DATABASE_URL ?? DEFAULT_URL)
+  base.pathname = `${base.pathname}_${process.pid}`
+  const databaseUrl = base.toString()
   await recreateDatabase(databaseUrl)
   const sequelize = createSequelize(databaseUrl)
   await migrateToLatest(sequelize)
@@ -61,6 +78,7 @@ export default async function setup(project: TestProject) {
   project.provide('mailSinkDir', path.join(work, 'mail'))
 
   return async () => {
+    await dropDatabase(databaseUrl).catch(() => {})
     await s3.close()
     await mail.close()
     rmSync(work, { recursive: true, force: true })

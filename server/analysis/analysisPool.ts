@@ -1,0 +1,247 @@
+/**
+ * A pool of worker threads that runs the analysis engine off the main thread: the three stack passes of
+ * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast), single-frame analysis, and
+ * measurements of a saved mask.
+ *
+ * File bytes are copied once into a SharedArrayBuffer and shared with every worker (`shareFile`); each task then names
+ * a frame index and the worker decodes that frame itself. Results come back by frame index whatever order the workers
+ * finish in; masks and histograms are transferred, not copied. A frame that fails (damaged data) is reported with its
+ * index and the others are kept; a worker that dies is replaced, so the pool stays usable.
+ *
+ * Workers run the TypeScript sources through analysisWorkerBootstrap.mjs, which registers tsx in the worker thread
+ * (Node 20 does not pass the parent's loader hooks to workers), so this works under `tsx` and under vitest alike.
+ */
+import { availableParallelism } from 'node:os'
+import { Worker } from 'node:worker_threads'
+import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
+import type { AnalysisRecipe } from '../../shared/analysis/recipe'
+import type { BinaryMask } from '../../shared/analysis/types'
+import type { DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { AnalysisTask, AnalysisTaskResults, FrameTaskContext, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
+
+export type { FrameTaskContext, MaskMeasureContext } from './analysisMessages'
+
+export interface AnalysisPoolOptions {
+  /** Worker threads; default os.availableParallelism(). */
+  size?: number
+}
+
+/** A file whose bytes every worker can read. */
+export interface SharedFile {
+  readonly id: number
+  readonly fileName: string
+}
+
+/** An error raised in a worker, with the code and HTTP status of the original (e.g. ImageDecodeError's). */
+export class AnalysisWorkerError extends Error {
+  readonly code?: string
+  readonly status?: number
+
+  constructor(error: SerializedError) {
+    super(error.message)
+    this.name = error.name
+    if (error.code !== undefined) this.code = error.code
+    if (error.status !== undefined) this.status = error.status
+  }
+}
+
+/** The result of one frame of a pass: its value, or why it failed. */
+export type FrameOutcome<T> = { index: number; ok: true; value: T } | { index: number; ok: false; error: AnalysisWorkerError }
+
+export interface AnalysisPool {
+  readonly size: number
+  /** Resolves once every worker has loaded the engine (tasks sent earlier simply wait). */
+  ready(): Promise<void>
+  /** Copy `bytes` once into shared memory and hand it to every worker; release it when done. */
+  shareFile(bytes: Uint8Array, fileName: string, limits?: Partial<DecodeLimits>): SharedFile
+  releaseFile(file: SharedFile): void
+  /** Raw intensity range of each frame (for the stack's common histogram range). */
+  rawRangePass(file: SharedFile, indices: number[]): Promise<FrameOutcome<{ min: number; max: number }>[]>
+  /** Pass 1: each frame's preprocessed histogram on the common range. */
+  histogramPass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, range: { min: number; max: number }): Promise<FrameOutcome<Uint32Array>[]>
+  /** Pass 2: segment (with the stack-wide threshold when given) and measure each frame. */
+  measurePass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, context: { pixelSizeNm: number | null; threshold?: number }): Promise<FrameOutcome<{ measurements: FrameMeasurements; mask: BinaryMask }>[]>
+  /** Pass 3: the signed domain contrast of each frame on one fixed mask. */
+  contrastPass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, mask: BinaryMask): Promise<FrameOutcome<number>[]>
+  /** The whole single-frame pipeline on one frame (reference and anchor frames follow from the recipe). */
+  analyzeFrame(file: SharedFile, index: number, recipe: AnalysisRecipe, context: FrameTaskContext): Promise<FrameAnalysis>
+  /** Every measurement of a given mask. */
+  measureMask(mask: BinaryMask, context: MaskMeasureContext): Promise<{ measurements: FrameMeasurements; distributions?: FrameDistributions }>
+  /** Stop every worker; tasks still queued or running are rejected. */
+  close(): Promise<void>
+}
+
+interface QueuedTask {
+  id: number
+  task: AnalysisTask
+  resolve: (value: unknown) => void
+  reject: (error: Error) => void
+}
+
+interface PoolWorker {
+  worker: Worker
+  ready: Promise<void>
+  current: QueuedTask | null
+}
+
+interface SharedBytes {
+  buffer: SharedArrayBuffer
+  byteLength: number
+  fileName: string
+  limits?: Partial<DecodeLimits>
+}
+
+const BOOTSTRAP = new URL('./analysisWorkerBootstrap.mjs', import.meta.url)
+
+/**
+ * Start a pool of analysis worker threads.
+ * @example const pool = createAnalysisPool(); const result = await analyzeStackInPool(pool, bytes, name, recipe, meta); await pool.close()
+ */
+export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisPool {
+  const size = Math.max(1, Math.floor(options.size ?? availableParallelism()))
+  const queue: QueuedTask[] = []
+  const shared = new Map<number, SharedBytes>()
+  const workers: PoolWorker[] = []
+  let nextTaskId = 1
+  let nextFileId = 1
+  let closed = false
+
+  function post(entry: PoolWorker, message: WorkerRequest): void {
+    entry.worker.postMessage(message)
+  }
+
+  function shareMessage(id: number, bytes: SharedBytes): WorkerRequest {
+    return { type: 'share', fileId: id, buffer: bytes.buffer, byteLength: bytes.byteLength, fileName: bytes.fileName, limits: bytes.limits }
+  }
+
+  function spawn(): PoolWorker {
+    // execArgv [] : the bootstrap registers tsx itself; the parent's tsx flags would load it twice.
+    // workerData must be an object: the web-worker package (loaded by geotiff) reads workerData.mod in any thread.
+    const worker = new Worker(BOOTSTRAP, { execArgv: [], workerData: {} })
+    let markReady: () => void = () => {}
+    const entry: PoolWorker = { worker, ready: new Promise<void>((resolve) => (markReady = resolve)), current: null }
+    worker.on('message', (message: WorkerResponse) => {
+      if (message.type === 'ready') {
+        markReady()
+        return
+      }
+      const task = entry.current
+      if (task === null || task.id !== message.id) return
+      entry.current = null
+      if (message.ok) task.resolve(message.value)
+      else task.reject(new AnalysisWorkerError(message.error))
+      dispatch()
+    })
+    worker.on('error', (err) => {
+      const task = entry.current
+      entry.current = null
+      task?.reject(new AnalysisWorkerError({ name: err.name, message: `The analysis worker stopped: ${err.message}` }))
+    })
+    worker.on('exit', () => {
+      const index = workers.indexOf(entry)
+      const task = entry.current
+      entry.current = null
+      task?.reject(new Error('The analysis worker exited during the task.'))
+      markReady()
+      if (closed || index < 0) return
+      // Replace the dead worker and give it the files the others have, so queued tasks still run.
+      const replacement = spawn()
+      workers[index] = replacement
+      for (const [id, bytes] of shared) post(replacement, shareMessage(id, bytes))
+      dispatch()
+    })
+    return entry
+  }
+
+  function dispatch(): void {
+    for (const entry of workers) {
+      if (queue.length === 0) return
+      if (entry.current !== null) continue
+      const task = queue.shift()!
+      entry.current = task
+      post(entry, { type: 'task', id: task.id, task: task.task })
+    }
+  }
+
+  function run<K extends AnalysisTask['kind']>(task: Extract<AnalysisTask, { kind: K }>): Promise<AnalysisTaskResults[K]> {
+    if (closed) return Promise.reject(new Error('The analysis pool is closed.'))
+    return new Promise((resolve, reject) => {
+      queue.push({ id: nextTaskId++, task, resolve: resolve as (value: unknown) => void, reject })
+      dispatch()
+    })
+  }
+
+  async function perFrame<T>(indices: number[], start: (index: number) => Promise<T>): Promise<FrameOutcome<T>[]> {
+    return Promise.all(
+      indices.map((index) =>
+        start(index).then(
+          (value): FrameOutcome<T> => ({ index, ok: true, value }),
+          (err: unknown): FrameOutcome<T> => ({ index, ok: false, error: asWorkerError(err) }),
+        ),
+      ),
+    )
+  }
+
+  for (let i = 0; i < size; i++) workers.push(spawn())
+
+  return {
+    size,
+    async ready() {
+      await Promise.all(workers.map((w) => w.ready))
+    },
+    shareFile(bytes, fileName, limits) {
+      if (closed) throw new Error('The analysis pool is closed.')
+      const buffer = new SharedArrayBuffer(bytes.byteLength)
+      new Uint8Array(buffer).set(bytes)
+      const id = nextFileId++
+      const entry: SharedBytes = { buffer, byteLength: bytes.byteLength, fileName, limits }
+      shared.set(id, entry)
+      for (const worker of workers) post(worker, shareMessage(id, entry))
+      return { id, fileName }
+    },
+    releaseFile(file) {
+      if (!shared.delete(file.id) || closed) return
+      for (const worker of workers) post(worker, { type: 'release', fileId: file.id })
+    },
+    rawRangePass(file, indices) {
+      return perFrame(indices, (index) => run<'rawRange'>({ kind: 'rawRange', fileId: file.id, index }))
+    },
+    histogramPass(file, indices, recipe, range) {
+      return perFrame(indices, (index) => run<'histogram'>({ kind: 'histogram', fileId: file.id, index, recipe, range }))
+    },
+    measurePass(file, indices, recipe, context) {
+      return perFrame(indices, (index) => run<'measure'>({ kind: 'measure', fileId: file.id, index, recipe, pixelSizeNm: context.pixelSizeNm, threshold: context.threshold }))
+    },
+    contrastPass(file, indices, recipe, mask) {
+      return perFrame(indices, (index) => run<'contrast'>({ kind: 'contrast', fileId: file.id, index, recipe, mask }))
+    },
+    analyzeFrame(file, index, recipe, context) {
+      return run<'analyzeFrame'>({ kind: 'analyzeFrame', fileId: file.id, index, recipe, context })
+    },
+    measureMask(mask, context) {
+      return run<'measureMask'>({ kind: 'measureMask', mask, context })
+    },
+    async close() {
+      if (closed) return
+      closed = true
+      const stopped = new Error('The analysis pool is closed.')
+      for (const task of queue.splice(0)) task.reject(stopped)
+      shared.clear()
+      await Promise.all(workers.map((w) => w.worker.terminate()))
+    },
+  }
+}
+
+function asWorkerError(err: unknown): AnalysisWorkerError {
+  if (err instanceof AnalysisWorkerError) return err
+  const e = err instanceof Error ? err : new Error(String(err))
+  return new AnalysisWorkerError({ name: e.name, message: e.message })
+}
+
+/**
+ * Recompute every measurement of a saved mask in a worker, so a request handler does not block the event loop.
+ * `context.frame` with `context.recipe` (or a preprocessed `context.image`) gives the domain contrast.
+ */
+export function measureMaskInPool(pool: AnalysisPool, mask: BinaryMask, context: MaskMeasureContext): Promise<{ measurements: FrameMeasurements; distributions?: FrameDistributions }> {
+  return pool.measureMask(mask, context)
+}

@@ -1,0 +1,158 @@
+/**
+ * One analysis worker thread: decodes the frames it is given from the shared file bytes and runs the per-frame passes
+ * of shared/analysis/analyzeStack.ts on them, or measures a mask. Started by analysisPool.ts through
+ * analysisWorkerBootstrap.mjs (which registers tsx so this TypeScript file loads).
+ *
+ * Frames are decoded on demand with decodeFrame, which keeps the parsed TIFF structure per byte array, so a stack is
+ * parsed once per worker. Only the reference frame and the registration anchor (frame 0) are kept decoded, because
+ * every frame of a stack needs them; the identical object is then also used when that frame itself is analysed, as
+ * analyzeStack does with its frame list.
+ */
+import { parentPort } from 'node:worker_threads'
+import { analyzeFrame, measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
+import { frameContrastPass, frameHistogramPass, frameMeasurePass, rawRange } from '../../shared/analysis/analyzeStack'
+import type { AnalysisRecipe } from '../../shared/analysis/recipe'
+import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
+import { decodeFrame, type DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { AnalysisTask, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
+
+interface SharedFile {
+  bytes: Uint8Array
+  fileName: string
+  limits?: Partial<DecodeLimits>
+  /** Decoded reference and anchor frames by index. */
+  kept: Map<number, Promise<GrayImage>>
+}
+
+const port = parentPort
+if (port === null) throw new Error('analysisWorker.ts must run in a worker thread (use createAnalysisPool).')
+
+const files = new Map<number, SharedFile>()
+
+function fileFor(fileId: number): SharedFile {
+  const file = files.get(fileId)
+  if (file === undefined) throw new Error(`File ${fileId} was not shared with this worker (or was already released).`)
+  return file
+}
+
+/** Indices of the frames every frame of a stack needs besides itself: the reference and the registration anchor. */
+function keptIndices(recipe: AnalysisRecipe): { reference: number | null; anchor: number | null } {
+  return { reference: recipe.background === 'reference' ? (recipe.referenceFrame ?? 0) : null, anchor: recipe.registerFrames ? 0 : null }
+}
+
+function keptFrame(file: SharedFile, index: number): Promise<GrayImage> {
+  let frame = file.kept.get(index)
+  if (frame === undefined) {
+    frame = decodeFrame(file.bytes, file.fileName, index, file.limits)
+    // A failed decode is not kept, so the error is reported again (with its frame) rather than cached.
+    frame.catch(() => file.kept.delete(index))
+    file.kept.set(index, frame)
+  }
+  return frame
+}
+
+/** The frame and the stack context analyzeStack would pass for it. */
+async function frameWithContext(fileId: number, index: number, recipe: AnalysisRecipe): Promise<{ image: GrayImage; context: { reference?: GrayImage; registrationAnchor?: GrayImage } }> {
+  const file = fileFor(fileId)
+  const { reference, anchor } = keptIndices(recipe)
+  const context = {
+    reference: reference === null ? undefined : await keptFrame(file, reference),
+    registrationAnchor: anchor === null ? undefined : await keptFrame(file, anchor),
+  }
+  const image = index === reference || index === anchor ? await keptFrame(file, index) : await decodeFrame(file.bytes, file.fileName, index, file.limits)
+  return { image, context }
+}
+
+/** A typed array whose buffer can be transferred without detaching anything else (copied when it is a view). */
+function ownArray<T extends Uint8Array | Uint32Array>(array: T): T {
+  if (array.byteOffset === 0 && array.byteLength === array.buffer.byteLength && array.buffer instanceof ArrayBuffer) return array
+  return array.slice() as T
+}
+
+function ownMask(mask: BinaryMask, transfer: ArrayBuffer[]): BinaryMask {
+  const data = ownArray(mask.data)
+  transfer.push(data.buffer as ArrayBuffer)
+  const out: BinaryMask = { width: mask.width, height: mask.height, data }
+  if (mask.ignore) {
+    const ignore = ownArray(mask.ignore)
+    transfer.push(ignore.buffer as ArrayBuffer)
+    out.ignore = ignore
+  }
+  return out
+}
+
+function measureContextImage(context: MaskMeasureContext): FloatImage | GrayImage | undefined {
+  if (context.image !== undefined) return context.image
+  if (context.frame === undefined || context.recipe === undefined) return undefined
+  // Registration needs the stack's anchor, which a lone saved mask does not have: measure on the unshifted frame.
+  return preprocessFrame(context.frame, { ...context.recipe, registerFrames: false }, { reference: context.reference })
+}
+
+async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unknown> {
+  switch (task.kind) {
+    case 'rawRange': {
+      const file = fileFor(task.fileId)
+      return rawRange(await decodeFrame(file.bytes, file.fileName, task.index, file.limits))
+    }
+    case 'histogram': {
+      const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
+      const histogram = ownArray(frameHistogramPass(image, task.recipe, task.range, context))
+      transfer.push(histogram.buffer as ArrayBuffer)
+      return histogram
+    }
+    case 'measure': {
+      const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
+      const { measurements, mask } = frameMeasurePass(image, task.recipe, { pixelSizeNm: task.pixelSizeNm, threshold: task.threshold, ...context })
+      return { measurements, mask: ownMask(mask, transfer) }
+    }
+    case 'contrast': {
+      const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
+      return frameContrastPass(image, task.recipe, task.mask, context)
+    }
+    case 'analyzeFrame': {
+      const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
+      const result = analyzeFrame(image, task.recipe, { ...task.context, ...context })
+      return { ...result, mask: ownMask(result.mask, transfer) }
+    }
+    case 'measureMask': {
+      const { context } = task
+      return measureMask(task.mask, {
+        pixelSizeNm: context.pixelSizeNm,
+        image: measureContextImage(context),
+        threshold: context.threshold,
+        reassignedFraction: context.reassignedFraction,
+        detail: context.detail,
+      })
+    }
+  }
+}
+
+function serializeError(err: unknown): SerializedError {
+  if (!(err instanceof Error)) return { name: 'Error', message: String(err) }
+  const out: SerializedError = { name: err.name, message: err.message }
+  const { code, status } = err as { code?: unknown; status?: unknown }
+  if (typeof code === 'string') out.code = code
+  if (typeof status === 'number') out.status = status
+  return out
+}
+
+function reply(message: WorkerResponse, transfer: ArrayBuffer[] = []): void {
+  port!.postMessage(message, transfer)
+}
+
+// Tasks run one at a time per worker (the pool sends the next only after a result), so no task waits on another.
+port.on('message', (message: WorkerRequest) => {
+  if (message.type === 'share') {
+    files.set(message.fileId, { bytes: new Uint8Array(message.buffer, 0, message.byteLength), fileName: message.fileName, limits: message.limits, kept: new Map() })
+  } else if (message.type === 'release') {
+    files.delete(message.fileId)
+  } else {
+    const transfer: ArrayBuffer[] = []
+    runTask(message.task, transfer).then(
+      (value) => reply({ type: 'result', id: message.id, ok: true, value }, transfer),
+      (err: unknown) => reply({ type: 'result', id: message.id, ok: false, error: serializeError(err) }),
+    )
+  }
+})
+
+reply({ type: 'ready' })

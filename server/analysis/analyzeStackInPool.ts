@@ -1,0 +1,88 @@
+/**
+ * A whole stack through the worker pool: the same passes and the same stack-level steps as `analyzeStack`
+ * (shared/analysis/analyzeStack.ts), so the result is identical to the one-thread analysis of the decoded frames,
+ * with frames placed by index whatever order the workers finish in. The raw range is one more pass here, because the
+ * frames are decoded in the workers rather than held by the caller.
+ */
+import {
+  contrastMaskFrame,
+  pooledThreshold,
+  safeHistogramRange,
+  summarizeCurie,
+  summarizeLoop,
+  type StackAnalysis,
+  type StackMeta,
+} from '../../shared/analysis/analyzeStack'
+import type { AnalysisRecipe } from '../../shared/analysis/recipe'
+import { probeImage, type DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { AnalysisPool, FrameOutcome } from './analysisPool'
+
+/** Frames of a stack that could not be analysed; `failures` names each with its index (0-based) and reason. */
+export class StackFramesError extends Error {
+  readonly code = 'frames-failed'
+  readonly status = 422
+  readonly fileName: string
+  readonly failures: { index: number; message: string; code?: string }[]
+
+  constructor(fileName: string, failures: { index: number; message: string; code?: string }[]) {
+    const shown = failures.slice(0, 5).map((f) => `frame ${f.index}: ${f.message}`)
+    if (failures.length > 5) shown.push(`… and ${failures.length - 5} more`)
+    super(`"${fileName}": ${failures.length} frame(s) could not be analysed (${shown.join('; ')}).`)
+    this.name = 'StackFramesError'
+    this.fileName = fileName
+    this.failures = failures
+  }
+}
+
+function values<T>(fileName: string, outcomes: FrameOutcome<T>[]): T[] {
+  const failures = outcomes.flatMap((o) => (o.ok ? [] : [{ index: o.index, message: o.error.message, code: o.error.code }]))
+  if (failures.length > 0) throw new StackFramesError(fileName, failures)
+  return outcomes.map((o) => (o as { value: T }).value)
+}
+
+/**
+ * Analyse every frame of an image file in the pool and summarise the stack (loop, jumps, Curie fit).
+ * @param meta one condition per frame of the file (from its frames CSV), and the pixel size.
+ * @throws ImageDecodeError when the file itself cannot be read; RangeError when `meta` does not match the frame count
+ *   or the recipe's reference frame is not in the stack; StackFramesError naming the frames that failed.
+ */
+export async function analyzeStackInPool(
+  pool: AnalysisPool,
+  bytes: Uint8Array,
+  fileName: string,
+  recipe: AnalysisRecipe,
+  meta: StackMeta,
+  limits?: Partial<DecodeLimits>,
+): Promise<StackAnalysis> {
+  const { frameCount } = await probeImage(bytes, fileName, limits)
+  if (meta.frames.length !== frameCount) {
+    throw new RangeError(`"${fileName}" has ${frameCount} frame(s) but ${meta.frames.length} frame condition(s) were given.`)
+  }
+  if (recipe.background === 'reference' && (recipe.referenceFrame ?? 0) >= frameCount) {
+    throw new RangeError(`recipe.referenceFrame ${recipe.referenceFrame} is not a frame of this stack (it has ${frameCount})`)
+  }
+  const indices = Array.from({ length: frameCount }, (_, i) => i)
+  const file = pool.shareFile(bytes, fileName, limits)
+  try {
+    let threshold: number | undefined
+    if (recipe.method === 'otsu' && recipe.stackThreshold === 'stack-wide') {
+      let min = Infinity
+      let max = -Infinity
+      for (const r of values(fileName, await pool.rawRangePass(file, indices))) {
+        min = Math.min(min, r.min)
+        max = Math.max(max, r.max)
+      }
+      const range = safeHistogramRange(min, max, recipe)
+      threshold = pooledThreshold(values(fileName, await pool.histogramPass(file, indices, recipe, range)), range)
+    }
+    const results = values(fileName, await pool.measurePass(file, indices, recipe, { pixelSizeNm: meta.pixelSizeNm, threshold }))
+    const measurements = results.map((r) => r.measurements)
+    const masks = results.map((r) => r.mask)
+    const loop = summarizeLoop(measurements, masks, meta, recipe.minDomainArea)
+    const maskFrame = contrastMaskFrame(measurements, meta)
+    const curie = maskFrame === null ? null : summarizeCurie(values(fileName, await pool.contrastPass(file, indices, recipe, masks[maskFrame])), maskFrame, meta)
+    return { threshold: threshold ?? null, frames: measurements, masks, loop, curie }
+  } finally {
+    pool.releaseFile(file)
+  }
+}

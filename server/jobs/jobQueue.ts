@@ -1,0 +1,43 @@
+/**
+ * The job queue: pg-boss on the PostgreSQL we already run (no new server). The web server only sends jobs; worker
+ * processes (server/worker.ts, `npm run worker`, one started by `npm start`) take them, on this machine or any other
+ * pointed at the same DATABASE_URL and object store.
+ */
+import PgBoss from 'pg-boss'
+
+export const STACK_QUEUE = 'stack-analysis'
+
+export interface StackJobData {
+  runId: number
+}
+
+export interface JobQueue {
+  sendStackRun(runId: number): Promise<void>
+  boss(): Promise<PgBoss>
+  close(): Promise<void>
+}
+
+export function createJobQueue(databaseUrl: string): JobQueue {
+  let started: Promise<PgBoss> | null = null
+  const boss = () =>
+    (started ??= (async () => {
+      const instance = new PgBoss({ connectionString: databaseUrl, max: 4, retryLimit: 3, retryDelay: 2, expireInMinutes: 30 })
+      instance.on('error', (err) => console.error('[jobs]', err.message))
+      await instance.start()
+      await instance.createQueue(STACK_QUEUE)
+      return instance
+    })())
+  return {
+    boss,
+    async sendStackRun(runId) {
+      const id = await (await boss()).send(STACK_QUEUE, { runId } satisfies StackJobData)
+      if (!id) throw new Error(`the job for stack run ${runId} was not queued`)
+    },
+    async close() {
+      if (!started) return
+      const instance = await started.catch(() => null)
+      started = null
+      await instance?.stop({ graceful: false, wait: true }).catch(() => {})
+    },
+  }
+}

@@ -1,0 +1,52 @@
+/**
+ * A job worker process (`npm run worker`; `npm start` runs one beside the web server). It takes stack runs from the
+ * pg-boss queue and processes them in a pool of analysis threads. Start more on this machine or others pointed at the
+ * same DATABASE_URL and object store to scale out; each run is claimed by exactly one worker.
+ */
+import { hostname } from 'node:os'
+import { loadConfig } from './config'
+import { createDeps } from './runtime'
+import { createAnalysisPool } from './analysis/analysisPool'
+import { createJobQueue, STACK_QUEUE, type StackJobData } from './jobs/jobQueue'
+import { findOrphanedRuns, processStackRun } from './jobs/stackRunProcessor'
+import { StackRun } from './models'
+
+const config = loadConfig()
+const deps = createDeps(config)
+const pool = createAnalysisPool({ size: Number(process.env.WORKER_THREADS ?? 0) || undefined })
+const jobs = createJobQueue(config.databaseUrl)
+const staleSeconds = Number(process.env.STALE_RUN_SECONDS ?? 60)
+const workerName = `${hostname()}:${process.pid}`
+
+/** Runs whose worker died are queued again; the claim in processStackRun makes a double send harmless. */
+async function requeueOrphans() {
+  for (const id of await findOrphanedRuns(staleSeconds, workerName)) {
+    const [updated] = await StackRun.update({ status: 'queued' }, { where: { id, status: 'running' } })
+    if (updated) {
+      console.log(`[worker] run ${id} lost its worker: queued again`)
+      await jobs.sendStackRun(id)
+    }
+  }
+}
+
+const boss = await jobs.boss()
+await pool.ready()
+await boss.work<StackJobData>(STACK_QUEUE, { pollingIntervalSeconds: 0.5, batchSize: 1 }, async ([job]) => {
+  const started = Date.now()
+  const outcome = await processStackRun({ ...deps, pool }, job.data.runId, { workerName, staleSeconds })
+  if (outcome === 'processed') console.log(`[worker] run ${job.data.runId} finished in ${((Date.now() - started) / 1000).toFixed(1)} s`)
+})
+await requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message))
+const reaper = setInterval(() => requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message)), Math.max(1000, (staleSeconds * 1000) / 2))
+console.log(`[worker] ${workerName} waiting for stack runs (${pool.size} analysis threads)`)
+
+async function shutdown(signal: string) {
+  console.log(`[worker] ${signal}: stopping`)
+  clearInterval(reaper)
+  await jobs.close()
+  await pool.close()
+  await deps.dispose()
+  process.exit(0)
+}
+process.on('SIGINT', () => void shutdown('SIGINT'))
+process.on('SIGTERM', () => void shutdown('SIGTERM'))
