@@ -1,6 +1,8 @@
 /**
  * The client's only `fetch`: base `/api`, JSON in and out, the session cookie, the CSRF header on mutations, and one
  * error type. Resource modules (auth.ts, projects.ts, ...) call `http.get/post/...` and never see a `Response`.
+ * The one request sent outside it is the image upload (images.ts), an XMLHttpRequest because `fetch` reports no upload
+ * progress; it takes its CSRF header and its errors from here (`csrfHeaders`, `apiErrorFromText`).
  */
 import type { ApiErrorBody } from '@shared/types/api'
 
@@ -89,7 +91,10 @@ export async function request<T>(method: Method, path: string, options: RequestO
 
 async function readJson(response: Response): Promise<unknown> {
   if (response.status === 204) return undefined
-  const text = await response.text()
+  return parseJsonText(await response.text())
+}
+
+function parseJsonText(text: string): unknown {
   if (!text) return undefined
   try {
     return JSON.parse(text)
@@ -111,6 +116,37 @@ function toApiError(status: number, body: unknown): ApiError {
       ? `The server is not answering properly (HTTP ${status}). Try again in a moment.`
       : `The request failed (HTTP ${status}).`
   return new ApiError(status, `http-${status}`, message)
+}
+
+/** The URL of an API path, for what the browser loads itself (`<img src>`) or sends outside `request`. */
+export function apiUrl(path: string): string {
+  return BASE + path
+}
+
+/** The CSRF header for a mutation sent outside `request` (the XHR upload, which needs upload progress). */
+export function csrfHeaders(): Record<string, string> {
+  return csrfToken ? { [CSRF_HEADER]: csrfToken } : {}
+}
+
+/**
+ * The `ApiError` for a failed answer received outside `request` (status and body text), handled as `request` does:
+ * a 401 also runs the unauthorized handler.
+ */
+export function apiErrorFromText(status: number, text: string): ApiError {
+  if (status === 401) unauthorizedHandler?.()
+  return toApiError(status, parseJsonText(text))
+}
+
+/** GET binary bytes below /api with the answer's headers (e.g. raw frame pixels). Throws `ApiError`. */
+export async function requestBytes(path: string): Promise<{ bytes: ArrayBuffer; headers: Headers }> {
+  let response: Response
+  try {
+    response = await fetch(BASE + path, { method: 'GET', credentials: 'same-origin' })
+  } catch {
+    throw new ApiError(0, 'network-error', 'The server could not be reached. Check your connection and try again.')
+  }
+  if (!response.ok) throw apiErrorFromText(response.status, await response.text())
+  return { bytes: await response.arrayBuffer(), headers: response.headers }
 }
 
 /** Shorthands for the resource modules. */

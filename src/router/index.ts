@@ -25,6 +25,8 @@ export type RouteName =
   | 'project-detail'
   | 'samples'
   | 'images'
+  | 'image-upload'
+  | 'image-detail'
   | 'compare'
   | 'review'
   | 'lab-admin'
@@ -46,6 +48,19 @@ const shellRoutes: NamedRoute[] = [
   },
   { path: 'samples', name: 'samples', component: () => import('@/views/SamplesView.vue'), meta: { title: 'Samples' } },
   { path: 'images', name: 'images', component: () => import('@/views/ImagesView.vue'), meta: { title: 'Images' } },
+  {
+    path: 'images/upload',
+    name: 'image-upload',
+    component: () => import('@/views/ImageUploadView.vue'),
+    meta: { title: 'Upload images', requires: 'image.upload' },
+  },
+  {
+    path: 'images/:imageId(\\d+)',
+    name: 'image-detail',
+    component: () => import('@/views/ImageDetailView.vue'),
+    props: (route) => ({ imageId: Number(route.params.imageId) }),
+    meta: { title: 'Image' },
+  },
   {
     path: 'compare',
     name: 'compare',
