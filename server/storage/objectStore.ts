@@ -17,6 +17,8 @@ export interface ObjectStore {
   exists(key: string): Promise<boolean>
   remove(key: string): Promise<void>
   list(prefix?: string): Promise<string[]>
+  /** Every object with its size and last-modified time. */
+  listDetailed(prefix?: string): Promise<{ key: string; size: number; lastModified: Date }[]>
   ensureBucket(): Promise<void>
   ping(): Promise<void>
   close(): void
@@ -55,14 +57,17 @@ export function createObjectStore(config: AppConfig['s3']): ObjectStore {
       await client.send(new DeleteObjectCommand({ Bucket, Key: key }))
     },
     async list(prefix) {
-      const keys: string[] = []
+      return (await this.listDetailed(prefix)).map((o) => o.key)
+    },
+    async listDetailed(prefix) {
+      const objects: { key: string; size: number; lastModified: Date }[] = []
       let token: string | undefined
       do {
         const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }))
-        for (const item of page.Contents ?? []) if (item.Key) keys.push(item.Key)
+        for (const item of page.Contents ?? []) if (item.Key) objects.push({ key: item.Key, size: item.Size ?? 0, lastModified: item.LastModified ?? new Date(0) })
         token = page.IsTruncated ? page.NextContinuationToken : undefined
       } while (token)
-      return keys
+      return objects
     },
     async ensureBucket() {
       try {

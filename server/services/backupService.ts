@@ -1,0 +1,64 @@
+/**
+ * Backups: a pg_dump of the database (custom format) plus a copy of every object in the bucket, with a manifest of
+ * SHA-256 checksums; restore verifies every checksum first, then replaces the database and makes the bucket equal to
+ * the backup. The PostgreSQL client tools come from Debian's postgresql-client (installed with the server).
+ */
+import { createHash } from 'node:crypto'
+import { spawn } from 'node:child_process'
+import { mkdir, readFile, writeFile } from 'node:fs/promises'
+import path from 'node:path'
+import type { ObjectStore } from '../storage/objectStore'
+
+export interface BackupManifest {
+  format: 'remanence-backup-1'
+  createdAt: string
+  database: { file: string; sha256: string }
+  objects: { key: string; file: string; sha256: string; bytes: number }[]
+}
+
+const sha256 = (data: Buffer) => createHash('sha256').update(data).digest('hex')
+
+function runTool(command: string, args: string[]): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const child = spawn(command, args, { stdio: ['ignore', 'ignore', 'pipe'] })
+    let stderr = ''
+    child.stderr.on('data', (d: Buffer) => (stderr += d.toString()))
+    child.on('error', (err) => reject(new Error(`${command} could not start: ${err.message}`)))
+    child.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`${command} exited with ${code}: ${stderr.trim().slice(0, 500)}`))))
+  })
+}
+
+/** Object keys become file names under objects/, with their folders. Keys never contain "..": they are ours. */
+const objectFile = (key: string) => path.join('objects', ...key.split('/'))
+
+export async function backup(deps: { databaseUrl: string; store: ObjectStore }, folder: string): Promise<BackupManifest> {
+  await mkdir(folder, { recursive: true })
+  const dumpFile = path.join(folder, 'database.dump')
+  await runTool('pg_dump', ['--format=custom', '--no-owner', '--no-privileges', `--file=${dumpFile}`, deps.databaseUrl])
+  const manifest: BackupManifest = { format: 'remanence-backup-1', createdAt: new Date().toISOString(), database: { file: 'database.dump', sha256: sha256(await readFile(dumpFile)) }, objects: [] }
+  for (const { key } of await deps.store.listDetailed()) {
+    const body = await deps.store.get(key)
+    const file = objectFile(key)
+    await mkdir(path.dirname(path.join(folder, file)), { recursive: true })
+    await writeFile(path.join(folder, file), body)
+    manifest.objects.push({ key, file, sha256: sha256(body), bytes: body.length })
+  }
+  await writeFile(path.join(folder, 'manifest.json'), JSON.stringify(manifest, null, 2))
+  return manifest
+}
+
+export async function restore(deps: { databaseUrl: string; store: ObjectStore }, folder: string): Promise<{ objects: number }> {
+  const manifest = JSON.parse(await readFile(path.join(folder, 'manifest.json'), 'utf8')) as BackupManifest
+  if (manifest.format !== 'remanence-backup-1') throw new Error(`${folder} is not a Remanence backup (format ${String(manifest.format)})`)
+  // Verify everything before touching anything.
+  if (sha256(await readFile(path.join(folder, manifest.database.file))) !== manifest.database.sha256) throw new Error('database.dump does not match its checksum: backup damaged')
+  for (const o of manifest.objects) {
+    if (sha256(await readFile(path.join(folder, o.file))) !== o.sha256) throw new Error(`${o.file} does not match its checksum: backup damaged`)
+  }
+  await runTool('pg_restore', ['--clean', '--if-exists', '--no-owner', '--no-privileges', '--single-transaction', `--dbname=${deps.databaseUrl}`, path.join(folder, manifest.database.file)])
+  await deps.store.ensureBucket()
+  const wanted = new Set(manifest.objects.map((o) => o.key))
+  for (const { key } of await deps.store.listDetailed()) if (!wanted.has(key)) await deps.store.remove(key)
+  for (const o of manifest.objects) await deps.store.put(o.key, await readFile(path.join(folder, o.file)), 'application/octet-stream')
+  return { objects: manifest.objects.length }
+}
