@@ -18,5 +18,7 @@ trap cleanup EXIT
 
 echo "[test] type check (vue-tsc)"
 npm run --silent typecheck
+echo "[test] building the client for the browser tests"
+node_modules/.bin/vite build --logLevel warn
 echo "[test] vitest"
 node_modules/.bin/vitest run "$@"

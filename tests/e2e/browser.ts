@@ -12,6 +12,8 @@ import { startTestApp } from '../server/testApp'
 export const CHROMIUM_PATH = '/usr/bin/chromium'
 export const SCREENSHOT_DIR = fileURLToPath(new URL('../../screenshots/', import.meta.url))
 export const browserAvailable = existsSync(CHROMIUM_PATH) && existsSync(fileURLToPath(new URL('../../dist/index.html', import.meta.url)))
+// In CI a silently skipped browser test would hide a broken install: there, a missing browser or build is an error.
+if (process.env.CI && !browserAvailable) throw new Error(`browser tests need ${CHROMIUM_PATH} and a built client (dist/): scripts/test.sh installs and builds both`)
 
 export async function startBrowserSession() {
   const app = startTestApp()
