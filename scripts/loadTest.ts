@@ -1,0 +1,162 @@
+/**
+ * `npm run loadtest`: a bounded load test on loopback only. It fills a separate database (`<DATABASE_URL>_load`) with
+ * a realistic lab (50 projects, 2,000 images, 20,000 measurements), runs the real app on a free 127.0.0.1 port with its
+ * own s3rver, signs in 50 people and sends them at the list, image and measurement endpoints with autocannon for
+ * LOAD_SECONDS (default 20 s) while 5 stack uploads run at the same time; then checks every upload was stored
+ * completely. Prints the latency percentiles (autocannon reports p97.5, which bounds p95 from above) and errors.
+ */
+import autocannon from 'autocannon'
+import { mkdtempSync, rmSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
+import type { AddressInfo } from 'node:net'
+import pg from 'pg'
+import { loadConfig } from '../server/config'
+import { createDeps } from '../server/runtime'
+import { createApp } from '../server/app'
+import { migrateToLatest } from '../server/migrator'
+import { hashPassword } from '../server/auth/passwords'
+import { Frame, Image } from '../server/models'
+import { encodeTiff } from '../shared/imageio/encodeTiff'
+import { renderFieldSweep } from './sampleImages'
+import { startS3Server } from './s3Server'
+import { startMailSink } from './mailSink'
+
+const SECONDS = Number(process.env.LOAD_SECONDS ?? 20)
+const USERS = 50
+const PASSWORD = 'load-test-password-1'
+
+async function recreate(url: URL) {
+  const name = url.pathname.slice(1)
+  const admin = new URL(url)
+  admin.pathname = '/postgres'
+  const client = new pg.Client({ connectionString: admin.toString() })
+  await client.connect()
+  await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`)
+  await client.query(`CREATE DATABASE "${name}"`)
+  await client.end()
+}
+
+/** Bulk rows straight in SQL: the point is a realistic size, not the upload path (which the uploads below exercise). */
+async function fill(sequelize: ReturnType<typeof createDeps>['sequelize']) {
+  const hash = await hashPassword(PASSWORD)
+  const q = (sql: string, replacements: Record<string, unknown> = {}) => sequelize.query(sql, { replacements })
+  await q(`INSERT INTO labs (name, institution, created_at, updated_at) VALUES ('Load-test lab', 'Loopback', now(), now())`)
+  await q(
+    `INSERT INTO users (email, name, password_hash, created_at, updated_at)
+     SELECT 'user' || g || '@load.example', 'Load user ' || g, :hash, now(), now() FROM generate_series(1, ${USERS}) g`,
+    { hash },
+  )
+  await q(`INSERT INTO memberships (lab_id, user_id, role, created_at, updated_at) SELECT 1, id, (ARRAY['pi','microscopist','annotator','reviewer','admin'])[1 + id % 5], now(), now() FROM users`)
+  await q(`INSERT INTO projects (lab_id, name, description, created_at, updated_at) SELECT 1, 'Project ' || g, '', now(), now() FROM generate_series(1, 50) g`)
+  await q(
+    `INSERT INTO samples (project_id, name, anneal_temperature_c, created_at, updated_at)
+     SELECT p.id, 'S' || p.id || '-' || t, t, now(), now() FROM projects p, unnest(ARRAY[200, 250, 300, 350]) t`,
+  )
+  await q(
+    `INSERT INTO images (project_id, sample_id, name, technique, object_key, sha256, byte_size, media_type, width, height, bit_depth, frame_count, pixel_size_nm, created_at, updated_at)
+     SELECT 1 + (g - 1) % 50, NULL, 'image-' || g || '.tif', 'kerr-polar', 'load/' || g || '/original.tif', md5(g::text) || md5(g::text), 1000, 'image/tiff', 1024, 1024, 16, 1, 80, now() - (g || ' minutes')::interval, now()
+     FROM generate_series(1, 2000) g`,
+  )
+  await q(`INSERT INTO frames (image_id, index, annotation_status, created_at, updated_at) SELECT id, 0, 'in-progress', now(), now() FROM images`)
+  await q(
+    `INSERT INTO analyses (frame_id, recipe, engine_version, results, status, created_at, updated_at)
+     SELECT f.id, '{"method":"otsu"}', 'load', json_build_object('measurements', json_build_object('magnetization', random(), 'meanWidthPx', 10 + random() * 5, 'periodPx', 20 + random() * 10)), 'draft', now(), now()
+     FROM frames f, generate_series(1, 10)`,
+  )
+  const [[counts]] = (await q(`SELECT (SELECT count(*) FROM projects) AS projects, (SELECT count(*) FROM images) AS images, (SELECT count(*) FROM analyses) AS measurements`)) as [Record<string, number>[], unknown]
+  return counts
+}
+
+const base = new URL(process.env.DATABASE_URL ?? loadConfig().databaseUrl)
+base.pathname = `${base.pathname}_load`
+await recreate(base)
+const work = mkdtempSync(path.join(tmpdir(), 'remanence-load-'))
+const s3 = await startS3Server({ port: 0, directory: path.join(work, 's3'), bucket: 'remanence-load' })
+const mail = await startMailSink({ port: 0, directory: path.join(work, 'mail') })
+const config = loadConfig({
+  databaseUrl: base.toString(),
+  s3: { endpoint: s3.endpoint, region: 'us-east-1', bucket: 'remanence-load', accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER', forcePathStyle: true },
+  smtpUrl: mail.url,
+  loginRateLimit: { windowMs: 60_000, max: 10_000 },
+})
+const deps = createDeps(config)
+await migrateToLatest(deps.sequelize)
+await deps.store.ensureBucket()
+console.log('[load] filling the database…')
+const counts = await fill(deps.sequelize)
+console.log(`[load] ${counts.projects} projects, ${counts.images} images, ${counts.measurements} measurements`)
+const built = createApp(deps)
+const server = built.app.listen(0, '127.0.0.1')
+await new Promise((r) => server.once('listening', r))
+const url = `http://127.0.0.1:${(server.address() as AddressInfo).port}`
+
+// 50 signed-in people, one session cookie each.
+const sessions: { cookie: string; csrf: string }[] = []
+for (let i = 1; i <= USERS; i++) {
+  const res = await fetch(`${url}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: `user${i}@load.example`, password: PASSWORD }) })
+  if (!res.ok) throw new Error(`sign-in ${i} failed: ${res.status}`)
+  sessions.push({ cookie: res.headers.get('set-cookie')!.split(';')[0], csrf: ((await res.json()) as { csrfToken: string }).csrfToken })
+}
+const frameIds = (await Frame.findAll({ attributes: ['id', 'imageId'], limit: 2000 })).map((f) => ({ frameId: f.id, imageId: f.imageId }))
+
+let connection = 0
+let pick = 0
+const next = () => frameIds[(pick = (pick * 7919 + 13) % frameIds.length)]
+const instance = autocannon({
+  url,
+  connections: USERS,
+  duration: SECONDS,
+  setupClient: (client: { setHeaders(h: Record<string, string>): void }) => client.setHeaders({ cookie: sessions[connection++ % USERS].cookie }),
+  requests: [
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images?page=${1 + (pick % 80)}&pageSize=25&sort=name&order=asc` }) },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images/${next().imageId}` }) },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/frames/${next().frameId}/analysis` }) },
+    { path: '/api/projects' },
+  ],
+} as never)
+
+// Five stack uploads while the load runs.
+const sweep = renderFieldSweep({ size: 128, seed: 3 })
+const uploads = Array.from({ length: 5 }, async (_, k) => {
+  const tiff = encodeTiff(sweep.frames.map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + k)) })))
+  const form = new FormData()
+  form.append('files', new Blob([tiff]), `load-stack-${k}.tif`)
+  form.append('frames', new Blob(['frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')]), `load-stack-${k}.csv`)
+  // user ids 1, 6, 11, … are microscopists (role = 1 + id % 5 in the fill above), so they may upload.
+  const session = sessions[5 * k]
+  const res = await fetch(`${url}/api/projects/1/images`, { method: 'POST', headers: { cookie: session.cookie, 'x-csrf-token': session.csrf }, body: form })
+  return { status: res.status, body: (await res.json()) as { id: number; frameCount: number }[] }
+})
+const [result, uploaded] = await Promise.all([instance as unknown as Promise<autocannon.Result>, Promise.all(uploads)])
+let complete = 0
+for (const u of uploaded) {
+  if (u.status !== 201) continue
+  const image = await Image.findByPk(u.body[0].id)
+  const frames = await Frame.count({ where: { imageId: u.body[0].id } })
+  const objects = (await deps.store.list(image!.objectKey.replace(/original\.tif$/, ''))).length
+  if (frames === 41 && objects === 1 + 41 * 3) complete++
+}
+const report = {
+  seconds: SECONDS,
+  users: USERS,
+  requests: result.requests.total,
+  requestsPerSecond: Math.round(result.requests.average),
+  latencyMs: { p50: result.latency.p50, p90: result.latency.p90, p97_5: result.latency.p97_5, p99: result.latency.p99, max: result.latency.max },
+  errors: result.errors,
+  timeouts: result.timeouts,
+  non2xx: result.non2xx,
+  stackUploads: { started: 5, storedCompletely: complete },
+}
+console.log(JSON.stringify(report, null, 2))
+for (const u of uploaded) if (u.status !== 201) console.log(`[load] an upload answered ${u.status}: ${JSON.stringify(u.body).slice(0, 300)}`)
+server.closeAllConnections()
+server.close()
+await built.close()
+await deps.dispose()
+await s3.close()
+await mail.close()
+rmSync(work, { recursive: true, force: true })
+const ok = report.latencyMs.p97_5 < 200 && report.errors === 0 && report.non2xx === 0 && complete === 5
+console.log(ok ? '[load] PASS: p97.5 < 200 ms (so p95 too), no errors, all 5 stacks stored completely' : '[load] FAIL: see the figures above')
+process.exit(ok ? 0 : 1)
