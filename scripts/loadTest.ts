@@ -121,7 +121,7 @@ const sweep = renderFieldSweep({ size: 128, seed: 3 })
 const uploads = Array.from({ length: 5 }, async (_, k) => {
   const tiff = encodeTiff(sweep.frames.map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + k)) })))
   const form = new FormData()
-  form.append('files', new Blob([tiff]), `load-stack-${k}.tif`)
+  form.append('files', new Blob([Buffer.from(tiff)]), `load-stack-${k}.tif`)
   form.append('frames', new Blob(['frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')]), `load-stack-${k}.csv`)
   // user ids 1, 6, 11, … are microscopists (role = 1 + id % 5 in the fill above), so they may upload.
   const session = sessions[5 * k]

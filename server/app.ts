@@ -16,6 +16,7 @@ import type { Mailer } from './mail/mailer'
 import { createSessionMiddleware } from './auth/session'
 import { configurePassport } from './auth/passport'
 import { csrfProtection } from './auth/csrf'
+import { installRequestLimits } from './http/requestLimits'
 import { createApiDefinition, openApiDocument } from './openapi/apiRoute'
 import { registerHealthRoutes } from './routes/health'
 import { registerAuthRoutes } from './routes/auth'
@@ -30,6 +31,21 @@ import type { MaskMeasurer } from './analysis/maskMeasurer'
 import type { JobQueue } from './jobs/jobQueue'
 import { registerStackRunRoutes } from './routes/stackRuns'
 import { createStackRunService } from './services/stackRunService'
+import { createBearerAuthentication, isBearerRequest } from './auth/bearer'
+import { createApiTokenService } from './services/apiTokenService'
+import { registerApiTokenRoutes } from './routes/apiTokens'
+import { createInvitationService } from './services/invitationService'
+import { registerInvitationRoutes } from './routes/invitations'
+import { createPasswordResetService } from './services/passwordResetService'
+import { registerPasswordResetRoutes } from './routes/passwordResets'
+import { createReviewService } from './services/reviewService'
+import { registerReviewRoutes } from './routes/reviews'
+import { createComparisonService } from './services/comparisonService'
+import { registerComparisonRoutes } from './routes/comparisons'
+import { createExportService } from './services/exportService'
+import { registerExportRoutes } from './routes/exports'
+import { registerLabMaterialRoutes } from './routes/labMaterials'
+import { registerSampleMeasurementRoutes } from './routes/sampleMeasurements'
 
 export interface AppDeps {
   config: AppConfig
@@ -62,25 +78,41 @@ export function createApp(deps: AppDeps) {
       strictTransportSecurity: config.secureCookies,
     }),
   )
+  installRequestLimits(app)
   app.use('/api', express.json({ limit: '2mb' }))
 
   const sessions = createSessionMiddleware(config)
   const passport = configurePassport()
+  const apiTokens = createApiTokenService()
   // Health and the API description must answer even when the session store (the database) is down.
   const sessionless = new Set(['/health', '/openapi.json'])
-  for (const middleware of [sessions.middleware, passport.session(), csrfProtection]) {
-    app.use('/api', (req, res, next) => (sessionless.has(req.path) ? next() : middleware(req, res, next)))
+  // A request with an API token (Authorization: Bearer rmn_…) is authenticated by the token alone: no session.
+  const bearer = createBearerAuthentication(apiTokens)
+  app.use('/api', (req, res, next) => (sessionless.has(req.path) ? next() : bearer(req, res, next)))
+  for (const middleware of [sessions.middleware, passport.session()]) {
+    app.use('/api', (req, res, next) => (sessionless.has(req.path) || isBearerRequest(req) ? next() : middleware(req, res, next)))
   }
+  app.use('/api', (req, res, next) => (sessionless.has(req.path) ? next() : csrfProtection(req, res, next)))
 
   const api = createApiDefinition(express.Router())
   registerHealthRoutes(api, deps)
-  registerAuthRoutes(api, deps, passport)
+  const passwordResets = createPasswordResetService(deps)
+  registerAuthRoutes(api, deps, passport, { accountLocked: (email) => passwordResets.sendUnlockLink(email) })
+  registerPasswordResetRoutes(api, passwordResets, config)
+  registerApiTokenRoutes(api, apiTokens)
+  registerInvitationRoutes(api, createInvitationService(deps))
   registerLabRoutes(api)
   registerProjectRoutes(api)
   const images = createImageService(deps)
   registerImageRoutes(api, images, config.maxUploadBytes)
   registerStackRunRoutes(api, createStackRunService({ ...deps, images }), deps.store)
-  registerAnnotationRoutes(api, createAnnotationService(deps))
+  const annotations = createAnnotationService(deps)
+  registerAnnotationRoutes(api, annotations)
+  registerReviewRoutes(api, createReviewService(deps))
+  registerComparisonRoutes(api, createComparisonService(deps))
+  registerExportRoutes(api, createExportService({ ...deps, annotations }))
+  registerLabMaterialRoutes(api)
+  registerSampleMeasurementRoutes(api, deps.sequelize)
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)
   api.router.get('/openapi.json', (_req, res) => res.json(document))

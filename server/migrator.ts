@@ -7,12 +7,18 @@ import type { QueryInterface, Sequelize } from 'sequelize'
 import * as initialSchema from './migrations/0001-initial-schema'
 import * as annotationConflicts from './migrations/0002-annotation-conflicts'
 import * as stackRuns from './migrations/0003-stack-runs'
+import * as collaboration from './migrations/0004-collaboration'
+import * as labMaterials from './migrations/0005-lab-materials'
+import * as motionFrames from './migrations/0006-motion-frames'
 
 /** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
 const MIGRATIONS = [
   { name: '0001-initial-schema', module: initialSchema },
   { name: '0002-annotation-conflicts', module: annotationConflicts },
   { name: '0003-stack-runs', module: stackRuns },
+  { name: '0004-collaboration', module: collaboration },
+  { name: '0005-lab-materials', module: labMaterials },
+  { name: '0006-motion-frames', module: motionFrames },
 ]
 
 export function createMigrator(sequelize: Sequelize) {

@@ -6,7 +6,9 @@
 import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
-import type { DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { MotionAnalysis, MotionOptions } from '../../shared/analysis/analyzeMotion'
+import type { MotionRow } from '../../shared/analysis/wallVelocity'
+import type { DecodeLimits, ImageHeader } from '../../shared/imageio/decodeImage'
 
 /** Context of a mask measured on its own (see `measureMaskInPool`). */
 export interface MaskMeasureContext {
@@ -33,21 +35,25 @@ export interface FrameTaskContext {
 
 /** The work a worker can be given; frame tasks name a shared file and a 0-based frame index. */
 export type AnalysisTask =
+  | { kind: 'probe'; fileId: number }
   | { kind: 'rawRange'; fileId: number; index: number }
   | { kind: 'histogram'; fileId: number; index: number; recipe: AnalysisRecipe; range: { min: number; max: number } }
   | { kind: 'measure'; fileId: number; index: number; recipe: AnalysisRecipe; pixelSizeNm: number | null; threshold?: number }
   | { kind: 'contrast'; fileId: number; index: number; recipe: AnalysisRecipe; mask: BinaryMask }
   | { kind: 'analyzeFrame'; fileId: number; index: number; recipe: AnalysisRecipe; context: FrameTaskContext }
   | { kind: 'measureMask'; mask: BinaryMask; context: MaskMeasureContext }
+  | { kind: 'motion'; fileId: number; recipe: AnalysisRecipe; rows: MotionRow[]; options: MotionOptions }
 
 /** What each task kind returns. */
 export interface AnalysisTaskResults {
+  probe: ImageHeader
   rawRange: { min: number; max: number }
   histogram: Uint32Array
   measure: { measurements: FrameMeasurements; mask: BinaryMask }
   contrast: number
   analyzeFrame: FrameAnalysis
   measureMask: { measurements: FrameMeasurements; distributions?: FrameDistributions }
+  motion: MotionAnalysis
 }
 
 /** Pool → worker. Messages on one port arrive in order, so a task always finds the files shared before it. */

@@ -1,7 +1,7 @@
 /**
  * A pool of worker threads that runs the analysis engine off the main thread: the three stack passes of
- * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast), single-frame analysis, and
- * measurements of a saved mask.
+ * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast), single-frame analysis,
+ * measurements of a saved mask, and whole motion series (shared/analysis/analyzeMotion.ts, one series per worker).
  *
  * File bytes are copied once into a SharedArrayBuffer and shared with every worker (`shareFile`); each task then names
  * a frame index and the worker decodes that frame itself. Results come back by frame index whatever order the workers
@@ -16,7 +16,9 @@ import { Worker } from 'node:worker_threads'
 import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask } from '../../shared/analysis/types'
-import type { DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { MotionAnalysis, MotionOptions } from '../../shared/analysis/analyzeMotion'
+import type { MotionRow } from '../../shared/analysis/wallVelocity'
+import type { DecodeLimits, ImageHeader } from '../../shared/imageio/decodeImage'
 import type { AnalysisTask, AnalysisTaskResults, FrameTaskContext, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
 
 export type { FrameTaskContext, MaskMeasureContext } from './analysisMessages'
@@ -52,9 +54,14 @@ export interface AnalysisPool {
   readonly size: number
   /** Resolves once every worker has loaded the engine (tasks sent earlier simply wait). */
   ready(): Promise<void>
-  /** Copy `bytes` once into shared memory and hand it to every worker; release it when done. */
+  /**
+   * Copy `bytes` once into shared memory (not at all when they already fill a SharedArrayBuffer) and hand it to every
+   * worker; release it when done.
+   */
   shareFile(bytes: Uint8Array, fileName: string, limits?: Partial<DecodeLimits>): SharedFile
   releaseFile(file: SharedFile): void
+  /** The file's header (format, size, frame count, calibration), read in a worker. */
+  probe(file: SharedFile): Promise<ImageHeader>
   /** Raw intensity range of each frame (for the stack's common histogram range). */
   rawRangePass(file: SharedFile, indices: number[]): Promise<FrameOutcome<{ min: number; max: number }>[]>
   /** Pass 1: each frame's preprocessed histogram on the common range. */
@@ -67,6 +74,8 @@ export interface AnalysisPool {
   analyzeFrame(file: SharedFile, index: number, recipe: AnalysisRecipe, context: FrameTaskContext): Promise<FrameAnalysis>
   /** Every measurement of a given mask. */
   measureMask(mask: BinaryMask, context: MaskMeasureContext): Promise<{ measurements: FrameMeasurements; distributions?: FrameDistributions }>
+  /** A whole motion series (every frame of the file) through shared/analysis/analyzeMotion in one worker. */
+  analyzeMotion(file: SharedFile, recipe: AnalysisRecipe, rows: MotionRow[], options: MotionOptions): Promise<MotionAnalysis>
   /** Stop every worker; tasks still queued or running are rejected. */
   close(): Promise<void>
 }
@@ -81,7 +90,11 @@ interface QueuedTask {
 interface PoolWorker {
   worker: Worker
   ready: Promise<void>
+  /** Set once the worker has loaded the engine. */
+  started: boolean
   current: QueuedTask | null
+  /** The error that stopped the worker, if it failed rather than exited. */
+  failure: Error | null
 }
 
 interface SharedBytes {
@@ -105,6 +118,8 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
   let nextTaskId = 1
   let nextFileId = 1
   let closed = false
+  // A worker that dies before it is ready cannot run anything (broken install): stop instead of respawning forever.
+  let startupError: Error | null = null
 
   function post(entry: PoolWorker, message: WorkerRequest): void {
     entry.worker.postMessage(message)
@@ -119,9 +134,10 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     // workerData must be an object: the web-worker package (loaded by geotiff) reads workerData.mod in any thread.
     const worker = new Worker(BOOTSTRAP, { execArgv: [], workerData: {} })
     let markReady: () => void = () => {}
-    const entry: PoolWorker = { worker, ready: new Promise<void>((resolve) => (markReady = resolve)), current: null }
+    const entry: PoolWorker = { worker, ready: new Promise<void>((resolve) => (markReady = resolve)), started: false, current: null, failure: null }
     worker.on('message', (message: WorkerResponse) => {
       if (message.type === 'ready') {
+        entry.started = true
         markReady()
         return
       }
@@ -133,6 +149,7 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
       dispatch()
     })
     worker.on('error', (err) => {
+      entry.failure = err
       const task = entry.current
       entry.current = null
       task?.reject(new AnalysisWorkerError({ name: err.name, message: `The analysis worker stopped: ${err.message}` }))
@@ -144,6 +161,11 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
       task?.reject(new Error('The analysis worker exited during the task.'))
       markReady()
       if (closed || index < 0) return
+      if (!entry.started) {
+        startupError = new Error(`An analysis worker could not start${entry.failure ? `: ${entry.failure.message}` : '.'}`)
+        for (const queued of queue.splice(0)) queued.reject(startupError)
+        return
+      }
       // Replace the dead worker and give it the files the others have, so queued tasks still run.
       const replacement = spawn()
       workers[index] = replacement
@@ -165,6 +187,7 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
 
   function run<K extends AnalysisTask['kind']>(task: Extract<AnalysisTask, { kind: K }>): Promise<AnalysisTaskResults[K]> {
     if (closed) return Promise.reject(new Error('The analysis pool is closed.'))
+    if (startupError !== null) return Promise.reject(startupError)
     return new Promise((resolve, reject) => {
       queue.push({ id: nextTaskId++, task, resolve: resolve as (value: unknown) => void, reject })
       dispatch()
@@ -191,8 +214,10 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     },
     shareFile(bytes, fileName, limits) {
       if (closed) throw new Error('The analysis pool is closed.')
-      const buffer = new SharedArrayBuffer(bytes.byteLength)
-      new Uint8Array(buffer).set(bytes)
+      // Bytes already in shared memory (e.g. read straight into a SharedArrayBuffer) are shared as they are.
+      const alreadyShared = bytes.buffer instanceof SharedArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength
+      const buffer = alreadyShared ? (bytes.buffer as SharedArrayBuffer) : new SharedArrayBuffer(bytes.byteLength)
+      if (!alreadyShared) new Uint8Array(buffer).set(bytes)
       const id = nextFileId++
       const entry: SharedBytes = { buffer, byteLength: bytes.byteLength, fileName, limits }
       shared.set(id, entry)
@@ -202,6 +227,9 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     releaseFile(file) {
       if (!shared.delete(file.id) || closed) return
       for (const worker of workers) post(worker, { type: 'release', fileId: file.id })
+    },
+    probe(file) {
+      return run<'probe'>({ kind: 'probe', fileId: file.id })
     },
     rawRangePass(file, indices) {
       return perFrame(indices, (index) => run<'rawRange'>({ kind: 'rawRange', fileId: file.id, index }))
@@ -220,6 +248,9 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     },
     measureMask(mask, context) {
       return run<'measureMask'>({ kind: 'measureMask', mask, context })
+    },
+    analyzeMotion(file, recipe, rows, options) {
+      return run<'motion'>({ kind: 'motion', fileId: file.id, recipe, rows, options })
     },
     async close() {
       if (closed) return

@@ -1,7 +1,7 @@
 /**
  * One analysis worker thread: decodes the frames it is given from the shared file bytes and runs the per-frame passes
- * of shared/analysis/analyzeStack.ts on them, or measures a mask. Started by analysisPool.ts through
- * analysisWorkerBootstrap.mjs (which registers tsx so this TypeScript file loads).
+ * of shared/analysis/analyzeStack.ts on them, measures a mask, or analyses a whole motion series. Started by
+ * analysisPool.ts through analysisWorkerBootstrap.mjs (which registers tsx so this TypeScript file loads).
  *
  * Frames are decoded on demand with decodeFrame, which keeps the parsed TIFF structure per byte array, so a stack is
  * parsed once per worker. Only the reference frame and the registration anchor (frame 0) are kept decoded, because
@@ -11,9 +11,10 @@
 import { parentPort } from 'node:worker_threads'
 import { analyzeFrame, measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { frameContrastPass, frameHistogramPass, frameMeasurePass, rawRange } from '../../shared/analysis/analyzeStack'
+import { analyzeMotion } from '../../shared/analysis/analyzeMotion'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
-import { decodeFrame, type DecodeLimits } from '../../shared/imageio/decodeImage'
+import { decodeFrame, probeImage, type DecodeLimits } from '../../shared/imageio/decodeImage'
 import type { AnalysisTask, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
 
 interface SharedFile {
@@ -90,6 +91,10 @@ function measureContextImage(context: MaskMeasureContext): FloatImage | GrayImag
 
 async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unknown> {
   switch (task.kind) {
+    case 'probe': {
+      const file = fileFor(task.fileId)
+      return probeImage(file.bytes, file.fileName, file.limits)
+    }
     case 'rawRange': {
       const file = fileFor(task.fileId)
       return rawRange(await decodeFrame(file.bytes, file.fileName, task.index, file.limits))
@@ -123,6 +128,14 @@ async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unk
         reassignedFraction: context.reassignedFraction,
         detail: context.detail,
       })
+    }
+    case 'motion': {
+      // A motion series is registered and thresholded as a whole, so one worker decodes every frame of it.
+      const file = fileFor(task.fileId)
+      const { frameCount } = await probeImage(file.bytes, file.fileName, file.limits)
+      const frames: GrayImage[] = []
+      for (let index = 0; index < frameCount; index++) frames.push(await decodeFrame(file.bytes, file.fileName, index, file.limits))
+      return analyzeMotion(frames, task.recipe, task.rows, task.options)
     }
   }
 }

@@ -14,7 +14,7 @@ import {
   type StackMeta,
 } from '../../shared/analysis/analyzeStack'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
-import { probeImage, type DecodeLimits } from '../../shared/imageio/decodeImage'
+import type { DecodeLimits } from '../../shared/imageio/decodeImage'
 import type { AnalysisPool, FrameOutcome } from './analysisPool'
 
 /** Frames of a stack that could not be analysed; `failures` names each with its index (0-based) and reason. */
@@ -43,7 +43,7 @@ function values<T>(fileName: string, outcomes: FrameOutcome<T>[]): T[] {
 /**
  * Analyse every frame of an image file in the pool and summarise the stack (loop, jumps, Curie fit).
  * @param meta one condition per frame of the file (from its frames CSV), and the pixel size.
- * @throws ImageDecodeError when the file itself cannot be read; RangeError when `meta` does not match the frame count
+ * @throws AnalysisWorkerError with the ImageDecodeError's code and status when the file itself cannot be read; RangeError when `meta` does not match the frame count
  *   or the recipe's reference frame is not in the stack; StackFramesError naming the frames that failed.
  */
 export async function analyzeStackInPool(
@@ -54,16 +54,17 @@ export async function analyzeStackInPool(
   meta: StackMeta,
   limits?: Partial<DecodeLimits>,
 ): Promise<StackAnalysis> {
-  const { frameCount } = await probeImage(bytes, fileName, limits)
-  if (meta.frames.length !== frameCount) {
-    throw new RangeError(`"${fileName}" has ${frameCount} frame(s) but ${meta.frames.length} frame condition(s) were given.`)
-  }
-  if (recipe.background === 'reference' && (recipe.referenceFrame ?? 0) >= frameCount) {
-    throw new RangeError(`recipe.referenceFrame ${recipe.referenceFrame} is not a frame of this stack (it has ${frameCount})`)
-  }
-  const indices = Array.from({ length: frameCount }, (_, i) => i)
   const file = pool.shareFile(bytes, fileName, limits)
   try {
+    // The header is read in a worker, which keeps the parsed file for decoding: this thread never parses it.
+    const { frameCount } = await pool.probe(file)
+    if (meta.frames.length !== frameCount) {
+      throw new RangeError(`"${fileName}" has ${frameCount} frame(s) but ${meta.frames.length} frame condition(s) were given.`)
+    }
+    if (recipe.background === 'reference' && (recipe.referenceFrame ?? 0) >= frameCount) {
+      throw new RangeError(`recipe.referenceFrame ${recipe.referenceFrame} is not a frame of this stack (it has ${frameCount})`)
+    }
+    const indices = Array.from({ length: frameCount }, (_, i) => i)
     let threshold: number | undefined
     if (recipe.method === 'otsu' && recipe.stackThreshold === 'stack-wide') {
       let min = Infinity

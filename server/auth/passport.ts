@@ -11,8 +11,11 @@ import { loadSessionUser } from './sessionUser'
 export const LOCK_AFTER_FAILURES = 10
 export const LOCK_MINUTES = 15
 
-/** The reason a sign-in failed, for a clear message (never tells whether the e-mail exists). */
-export type SignInFailure = 'bad-credentials' | 'locked'
+/**
+ * The reason a sign-in failed, for a clear message (never tells whether the e-mail exists). 'locked-now' is the
+ * failure that locked the account: the sign-in route answers it like 'locked' and e-mails an unlock link.
+ */
+export type SignInFailure = 'bad-credentials' | 'locked' | 'locked-now'
 
 export function configurePassport(): passport.PassportStatic {
   passport.use(
@@ -41,7 +44,7 @@ async function authenticate(email: string, password: string) {
     const failedLogins = user.failedLogins + 1
     const lockedUntil = failedLogins >= LOCK_AFTER_FAILURES ? new Date(Date.now() + LOCK_MINUTES * 60_000) : null
     await user.update({ failedLogins: lockedUntil ? 0 : failedLogins, lockedUntil })
-    return lockedUntil ? ('locked' as const) : ('bad-credentials' as const)
+    return lockedUntil ? ('locked-now' as const) : ('bad-credentials' as const)
   }
   if (user.failedLogins || user.lockedUntil) await user.update({ failedLogins: 0, lockedUntil: null })
   return (await loadSessionUser(user.id))!

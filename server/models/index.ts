@@ -94,6 +94,10 @@ export class Frame extends Model<InferAttributes<Frame>, InferCreationAttributes
   declare field: number | null
   declare fieldUnit: string | null
   declare temperatureK: number | null
+  /** Motion series: amplitude of the pulse before this frame (in `fieldUnit`), its duration in s, or the time in s. */
+  declare pulseField: CreationOptional<number | null>
+  declare pulseDurationS: CreationOptional<number | null>
+  declare timeS: CreationOptional<number | null>
   declare assigneeId: ForeignKey<User['id']> | null
   declare annotationStatus: CreationOptional<string>
   declare createdAt: CreationOptional<Date>
@@ -200,6 +204,75 @@ export class StackFrameResult extends Model<InferAttributes<StackFrameResult>, I
   declare updatedAt: CreationOptional<Date>
 }
 
+export class Invitation extends Model<InferAttributes<Invitation>, InferCreationAttributes<Invitation>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']>
+  /** Lower-case, trimmed. */
+  declare email: string
+  declare role: LabRole
+  /** Hex SHA-256 of the token in the e-mailed link (the token itself is never stored). */
+  declare tokenHash: string
+  declare invitedById: ForeignKey<User['id']> | null
+  declare expiresAt: Date
+  declare usedAt: Date | null
+  declare usedById: ForeignKey<User['id']> | null
+  declare revokedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export type AccountLinkPurpose = 'password-reset' | 'unlock'
+
+/** A one-time e-mailed link for an account: a password reset, or lifting a lock-out. */
+export class PasswordReset extends Model<InferAttributes<PasswordReset>, InferCreationAttributes<PasswordReset>> {
+  declare id: CreationOptional<number>
+  declare userId: ForeignKey<User['id']>
+  declare purpose: AccountLinkPurpose
+  declare tokenHash: string
+  declare expiresAt: Date
+  declare usedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class ApiToken extends Model<InferAttributes<ApiToken>, InferCreationAttributes<ApiToken>> {
+  declare id: CreationOptional<number>
+  declare userId: ForeignKey<User['id']>
+  declare name: string
+  declare tokenHash: string
+  declare displayPrefix: string
+  declare scope: CreationOptional<'read'>
+  declare expiresAt: Date | null
+  declare lastUsedAt: Date | null
+  declare revokedAt: Date | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class SavedComparison extends Model<InferAttributes<SavedComparison>, InferCreationAttributes<SavedComparison>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']>
+  declare name: string
+  declare query: Record<string, unknown>
+  declare createdById: ForeignKey<User['id']> | null
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+/** A lab's own material constants for the theory checks (SI units, signed K), with where they come from. */
+export class LabMaterial extends Model<InferAttributes<LabMaterial>, InferCreationAttributes<LabMaterial>> {
+  declare id: CreationOptional<number>
+  declare labId: ForeignKey<Lab['id']>
+  declare name: string
+  declare msAPerM: number
+  declare aJPerM: number
+  declare kJPerM3: number
+  declare tcK: number | null
+  declare source: CreationOptional<string>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
 const id = { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true }
 const timestamps = { createdAt: DataTypes.DATE, updatedAt: DataTypes.DATE }
 
@@ -218,6 +291,11 @@ export interface Models {
   AuditEvent: typeof AuditEvent
   StackRun: typeof StackRun
   StackFrameResult: typeof StackFrameResult
+  Invitation: typeof Invitation
+  PasswordReset: typeof PasswordReset
+  ApiToken: typeof ApiToken
+  SavedComparison: typeof SavedComparison
+  LabMaterial: typeof LabMaterial
 }
 
 /**
@@ -307,6 +385,9 @@ export function defineModels(sequelize: Sequelize): Models {
       field: { type: DataTypes.DOUBLE, allowNull: true },
       fieldUnit: { type: DataTypes.STRING(10), allowNull: true },
       temperatureK: { type: DataTypes.DOUBLE, allowNull: true },
+      pulseField: { type: DataTypes.DOUBLE, allowNull: true },
+      pulseDurationS: { type: DataTypes.DOUBLE, allowNull: true },
+      timeS: { type: DataTypes.DOUBLE, allowNull: true },
       assigneeId: { type: DataTypes.INTEGER, allowNull: true },
       annotationStatus: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'new' },
       ...timestamps,
@@ -416,6 +497,76 @@ export function defineModels(sequelize: Sequelize): Models {
     base('stack_frame_results'),
   )
 
+  Invitation.init(
+    {
+      id,
+      labId: { type: DataTypes.INTEGER, allowNull: false },
+      email: { type: DataTypes.STRING(320), allowNull: false },
+      role: { type: DataTypes.STRING(20), allowNull: false },
+      tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+      invitedById: { type: DataTypes.INTEGER, allowNull: true },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      usedAt: { type: DataTypes.DATE, allowNull: true },
+      usedById: { type: DataTypes.INTEGER, allowNull: true },
+      revokedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('invitations'),
+  )
+  PasswordReset.init(
+    {
+      id,
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      purpose: { type: DataTypes.STRING(20), allowNull: false },
+      tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      usedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('password_resets'),
+  )
+  ApiToken.init(
+    {
+      id,
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(100), allowNull: false },
+      tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+      displayPrefix: { type: DataTypes.STRING(16), allowNull: false },
+      scope: { type: DataTypes.STRING(20), allowNull: false, defaultValue: 'read' },
+      expiresAt: { type: DataTypes.DATE, allowNull: true },
+      lastUsedAt: { type: DataTypes.DATE, allowNull: true },
+      revokedAt: { type: DataTypes.DATE, allowNull: true },
+      ...timestamps,
+    },
+    base('api_tokens'),
+  )
+  SavedComparison.init(
+    {
+      id,
+      labId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      query: { type: DataTypes.JSONB, allowNull: false },
+      createdById: { type: DataTypes.INTEGER, allowNull: true },
+      ...timestamps,
+    },
+    base('saved_comparisons'),
+  )
+
+  LabMaterial.init(
+    {
+      id,
+      labId: { type: DataTypes.INTEGER, allowNull: false },
+      name: { type: DataTypes.STRING(200), allowNull: false },
+      msAPerM: { type: DataTypes.DOUBLE, allowNull: false, field: 'ms_a_per_m' },
+      aJPerM: { type: DataTypes.DOUBLE, allowNull: false, field: 'a_j_per_m' },
+      kJPerM3: { type: DataTypes.DOUBLE, allowNull: false, field: 'k_j_per_m3' },
+      tcK: { type: DataTypes.DOUBLE, allowNull: true, field: 'tc_k' },
+      source: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },
+      ...timestamps,
+    },
+    base('lab_materials'),
+  )
+
   Lab.hasMany(Membership, { foreignKey: 'labId' })
   Membership.belongsTo(Lab, { foreignKey: 'labId' })
   User.hasMany(Membership, { foreignKey: 'userId' })
@@ -441,8 +592,16 @@ export function defineModels(sequelize: Sequelize): Models {
   Image.hasMany(StackRun, { foreignKey: 'imageId' })
   StackRun.belongsTo(Image, { foreignKey: 'imageId' })
   StackRun.hasMany(StackFrameResult, { foreignKey: 'runId', as: 'frameResults' })
+  Invitation.belongsTo(Lab, { foreignKey: 'labId' })
+  Invitation.belongsTo(User, { foreignKey: 'invitedById', as: 'invitedBy' })
+  PasswordReset.belongsTo(User, { foreignKey: 'userId' })
+  ApiToken.belongsTo(User, { foreignKey: 'userId' })
+  SavedComparison.belongsTo(User, { foreignKey: 'createdById', as: 'createdBy' })
+  Review.belongsTo(User, { foreignKey: 'reviewerId', as: 'reviewer' })
+  Comment.belongsTo(User, { foreignKey: 'authorId', as: 'author' })
+  LabMaterial.belongsTo(Lab, { foreignKey: 'labId' })
 
   return models
 }
 
-const models: Models = { User, Lab, Membership, Project, Sample, Image, Frame, Annotation, Analysis, Review, Comment, AuditEvent, StackRun, StackFrameResult }
+const models: Models = { User, Lab, Membership, Project, Sample, Image, Frame, Annotation, Analysis, Review, Comment, AuditEvent, StackRun, StackFrameResult, Invitation, PasswordReset, ApiToken, SavedComparison, LabMaterial }

@@ -26,7 +26,13 @@ function authenticateLocal(passport: PassportStatic, req: Request, res: Response
   })
 }
 
-export function registerAuthRoutes(api: ApiDefinition, deps: AppDeps, passport: PassportStatic): void {
+/** Optional reactions to sign-in events, wired in app.ts. */
+export interface AuthHooks {
+  /** Called once when failed sign-ins lock the account of `email` (e.g. to e-mail an unlock link). */
+  accountLocked?: (email: string) => Promise<void>
+}
+
+export function registerAuthRoutes(api: ApiDefinition, deps: AppDeps, passport: PassportStatic, hooks: AuthHooks = {}): void {
   const loginLimiter = rateLimit({
     windowMs: deps.config.loginRateLimit.windowMs,
     limit: deps.config.loginRateLimit.max,
@@ -46,10 +52,14 @@ export function registerAuthRoutes(api: ApiDefinition, deps: AppDeps, passport: 
     before: [loginLimiter],
     body: LoginSchema,
     responses: { 200: { description: 'Signed in', schema: CurrentUserSchema }, 401: { description: 'Wrong e-mail or password' }, 423: { description: 'Account locked after repeated failures' }, 429: { description: 'Rate limited' } },
-    handler: async (req, res) => {
+    handler: async (req, res, { body }) => {
       const { user, info } = await authenticateLocal(passport, req, res)
       if (!user) {
-        if (info?.message === 'locked') throw new AppError(423, 'account-locked', 'Too many failed sign-ins: this account is locked for 15 minutes.')
+        if (info?.message === 'locked-now' && hooks.accountLocked) {
+          // The lock stands even when the message cannot be sent; the lock expires by itself.
+          await hooks.accountLocked(body.email).catch((err) => console.error('[auth] unlock e-mail failed', err))
+        }
+        if (info?.message === 'locked' || info?.message === 'locked-now') throw new AppError(423, 'account-locked', 'Too many failed sign-ins: this account is locked for 15 minutes.')
         throw new AppError(401, 'bad-credentials', 'E-mail or password is wrong.')
       }
       // passport 0.7 regenerates the session id at login (defence against session fixation).

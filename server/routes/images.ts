@@ -36,6 +36,9 @@ const FrameSchema = z.object({
   field: z.number().nullable(),
   fieldUnit: z.string().nullable(),
   temperatureK: z.number().nullable(),
+  pulseField: z.number().nullable().optional(),
+  pulseDurationS: z.number().nullable().optional(),
+  timeS: z.number().nullable().optional(),
   annotationStatus: z.string(),
   assignee: z.object({ id: z.number().int(), name: z.string() }).nullable(),
 })

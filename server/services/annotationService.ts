@@ -132,7 +132,8 @@ export function createAnnotationService(deps: { sequelize: Sequelize; store: Obj
           { frameId: frame.id, version: (latestVersion ?? 0) + 1, state: 'saved', basedOnVersion: input.baseVersion, maskKey, maskEncoding: 'rmsk-1', shapes: input.shapes, authorId: user.id },
           { transaction },
         )
-        if (frame.annotationStatus === 'new') await Frame.update({ annotationStatus: 'in-progress' }, { where: { id: frame.id }, transaction })
+        // A new version (also after a submission or approval) is work in progress until it is submitted again.
+        if (frame.annotationStatus !== 'in-progress') await Frame.update({ annotationStatus: 'in-progress' }, { where: { id: frame.id }, transaction })
         await recordAudit({ labId, actorId: user.id, action: 'mask.save', entityType: 'frame', entityId: frame.id, after: { version: created.version } }, transaction)
         return created
       })

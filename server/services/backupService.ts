@@ -34,7 +34,9 @@ const objectFile = (key: string) => path.join('objects', ...key.split('/'))
 export async function backup(deps: { databaseUrl: string; store: ObjectStore }, folder: string): Promise<BackupManifest> {
   await mkdir(folder, { recursive: true })
   const dumpFile = path.join(folder, 'database.dump')
-  await runTool('pg_dump', ['--format=custom', '--no-owner', '--no-privileges', `--file=${dumpFile}`, deps.databaseUrl])
+  // The job queue's schema (pg-boss) is left out: queued jobs are transient, and its partitioned tables cannot be
+  // dropped by pg_restore --clean. After a restore, start stack runs again if some were in flight.
+  await runTool('pg_dump', ['--format=custom', '--no-owner', '--no-privileges', '--exclude-schema=pgboss', `--file=${dumpFile}`, deps.databaseUrl])
   const manifest: BackupManifest = { format: 'remanence-backup-1', createdAt: new Date().toISOString(), database: { file: 'database.dump', sha256: sha256(await readFile(dumpFile)) }, objects: [] }
   for (const { key } of await deps.store.listDetailed()) {
     const body = await deps.store.get(key)

@@ -99,7 +99,7 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
     if (inspected.length !== 1) throw new AppError(400, 'invalid-frames-csv', `${name}: a frames CSV goes with exactly one image or stack per upload.`, { file: name })
     try {
       const parsed = parseFramesCsv(text)
-      return validateFramesCsv(parsed, inspected[0].header.frameCount)
+      return checkMotionTimes(validateFramesCsv(parsed, inspected[0].header.frameCount))
     } catch (err) {
       throw decodeErrorToAppError(err, name)
     }
@@ -171,8 +171,12 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
             imageId: image.id,
             index,
             field: row?.field ?? null,
-            fieldUnit: row?.field != null ? (frameTable?.fieldUnit ?? null) : null,
+            // The unit goes with the field, or with the pulse amplitude of a motion series.
+            fieldUnit: row?.field != null || row?.pulseField != null ? (frameTable?.fieldUnit ?? null) : null,
             temperatureK: row?.temperatureK ?? null,
+            pulseField: row?.pulseField ?? null,
+            pulseDurationS: row?.pulseDurationS ?? null,
+            timeS: row?.timeS ?? null,
             assigneeId: null,
           }
         })
@@ -212,6 +216,9 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
         field: f.field,
         fieldUnit: f.fieldUnit,
         temperatureK: f.temperatureK,
+        pulseField: f.pulseField,
+        pulseDurationS: f.pulseDurationS,
+        timeS: f.timeS,
         annotationStatus: f.annotationStatus,
         assignee: (f as unknown as { assignee?: User }).assignee ? { id: (f as unknown as { assignee: User }).assignee.id, name: (f as unknown as { assignee: User }).assignee.name } : null,
       })),
@@ -269,7 +276,9 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
       const before = frames.map((f) => ({ index: f.index, field: f.field, fieldUnit: f.fieldUnit, temperatureK: f.temperatureK }))
       for (const row of rows) {
         const frame = frames.find((f) => f.index === row.index)!
-        await frame.update({ field: row.field, fieldUnit: row.field == null ? null : row.fieldUnit, temperatureK: row.temperatureK }, { transaction })
+        // A motion frame's unit also belongs to its pulse amplitude, which this edit does not touch.
+        const unit = row.field == null ? (frame.pulseField != null ? frame.fieldUnit : null) : row.fieldUnit
+        await frame.update({ field: row.field, fieldUnit: unit, temperatureK: row.temperatureK }, { transaction })
       }
       await recordAudit({ labId, actorId: user.id, action: 'frames.update', entityType: 'image', entityId: imageId, before: { frames: before }, after: { frames: rows } }, transaction)
     })
@@ -296,6 +305,21 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
 }
 
 export type ImageService = ReturnType<typeof createImageService>
+
+/**
+ * A `frame,time_s` motion series needs increasing times: each step's duration is the time since the previous frame,
+ * and a zero or negative one has no velocity (pulse durations ≤ 0 are refused by the CSV reader already).
+ */
+function checkMotionTimes<T extends { kind: string; rows: { frame: number; line: number; timeS?: number }[] }>(table: T): T {
+  if (table.kind !== 'time') return table
+  for (let k = 1; k < table.rows.length; k++) {
+    const [before, row] = [table.rows[k - 1], table.rows[k]]
+    if (!(row.timeS! > before.timeS!)) {
+      throw new FramesCsvError(`Line ${row.line}: frame ${row.frame} is at ${row.timeS} s, not after frame ${before.frame} (${before.timeS} s); times must increase.`, row.line)
+    }
+  }
+  return table
+}
 
 function isDatabaseError(err: unknown): boolean {
   return typeof (err as { name?: string }).name === 'string' && (err as { name: string }).name.startsWith('Sequelize')

@@ -30,6 +30,11 @@ export interface FrameDto {
   field: number | null
   fieldUnit: string | null
   temperatureK: number | null
+  /** Motion series (issue #8): amplitude of the pulse before this frame in `fieldUnit`, its duration in s. */
+  pulseField?: number | null
+  pulseDurationS?: number | null
+  /** Acquisition time of a constant-field motion series, s. */
+  timeS?: number | null
   annotationStatus: string
   assignee: { id: number; name: string } | null
 }

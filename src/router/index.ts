@@ -23,10 +23,15 @@ export type RouteName =
   | 'overview'
   | 'projects'
   | 'project-detail'
+  | 'project-progress'
   | 'samples'
+  | 'sample-detail'
   | 'images'
   | 'image-upload'
   | 'image-detail'
+  | 'workspace'
+  | 'stack-run'
+  | 'queue'
   | 'compare'
   | 'review'
   | 'lab-admin'
@@ -46,7 +51,21 @@ const shellRoutes: NamedRoute[] = [
     props: (route) => ({ projectId: Number(route.params.projectId) }),
     meta: { title: 'Project' },
   },
+  {
+    path: 'projects/:projectId(\\d+)/progress',
+    name: 'project-progress',
+    component: () => import('@/views/ProjectProgressView.vue'),
+    props: (route) => ({ projectId: Number(route.params.projectId) }),
+    meta: { title: 'Annotation progress', requires: 'image.assign' },
+  },
   { path: 'samples', name: 'samples', component: () => import('@/views/SamplesView.vue'), meta: { title: 'Samples' } },
+  {
+    path: 'samples/:sampleId(\\d+)',
+    name: 'sample-detail',
+    component: () => import('@/views/SampleDetailView.vue'),
+    props: (route) => ({ sampleId: Number(route.params.sampleId) }),
+    meta: { title: 'Sample' },
+  },
   { path: 'images', name: 'images', component: () => import('@/views/ImagesView.vue'), meta: { title: 'Images' } },
   {
     path: 'images/upload',
@@ -61,6 +80,21 @@ const shellRoutes: NamedRoute[] = [
     props: (route) => ({ imageId: Number(route.params.imageId) }),
     meta: { title: 'Image' },
   },
+  {
+    path: 'frames/:frameId(\\d+)/workspace',
+    name: 'workspace',
+    component: () => import('@/views/WorkspaceView.vue'),
+    props: (route) => ({ frameId: Number(route.params.frameId), imageId: /^\d+$/.test(String(route.query.image ?? '')) ? Number(route.query.image) : null }),
+    meta: { title: 'Annotation workspace', requires: 'lab.read' },
+  },
+  {
+    path: 'stack-runs/:runId(\\d+)',
+    name: 'stack-run',
+    component: () => import('@/views/StackRunView.vue'),
+    props: (route) => ({ runId: Number(route.params.runId) }),
+    meta: { title: 'Stack run' },
+  },
+  { path: 'queue', name: 'queue', component: () => import('@/views/QueueView.vue'), meta: { title: 'My frames', requires: 'mask.edit' } },
   {
     path: 'compare',
     name: 'compare',

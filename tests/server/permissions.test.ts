@@ -26,6 +26,15 @@ const cases: Case[] = [
     call: (a, c, ids) => a.post(`/api/projects/${ids.projectId}/samples`).set('x-csrf-token', c).send({ name: 'Matrix sample', annealTemperatureC: 300 }),
   },
   { name: 'PATCH /api/samples/:id', action: 'sample.edit', success: 200, call: (a, c, ids) => a.patch(`/api/samples/${ids.sampleId}`).set('x-csrf-token', c).send({ notes: 'edited' }) },
+  { name: 'GET /api/labs/:id/invitations', action: 'lab.manage', success: 200, call: (a, _c, ids) => a.get(`/api/labs/${ids.labId}/invitations`) },
+  {
+    name: 'POST /api/comparisons/compute',
+    action: 'comparison.use',
+    success: 200,
+    call: (a, c, ids) => a.post('/api/comparisons/compute').set('x-csrf-token', c).send({ projectId: ids.projectId, measure: 'meanWidth', groupBy: 'annealTemperatureC' }),
+  },
+  { name: 'GET /api/exports/measurements.csv', action: 'export.tables', success: 200, call: (a, _c, ids) => a.get(`/api/exports/measurements.csv?projectId=${ids.projectId}`) },
+  { name: 'GET /api/samples/:id/report', action: 'export.tables', success: 200, call: (a, _c, ids) => a.get(`/api/samples/${ids.sampleId}/report`) },
 ]
 
 describe('role/permission matrix', () => {

@@ -1,0 +1,34 @@
+/**
+ * Numbers with their unit for people: a fixed number of significant digits, no digit grouping (so values copy into a
+ * notebook or spreadsheet unchanged), the unit after a space, and "—" for a value that is not known.
+ */
+const formats = new Map<number, Intl.NumberFormat>()
+const SUPERSCRIPT: Record<string, string> = { '-': '⁻', '0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹' }
+
+function formatWith(significantDigits: number): Intl.NumberFormat {
+  let format = formats.get(significantDigits)
+  if (!format) {
+    format = new Intl.NumberFormat('en-US', { maximumSignificantDigits: significantDigits, useGrouping: false })
+    formats.set(significantDigits, format)
+  }
+  return format
+}
+
+/** "65.71", "−22.5" (with a true minus sign), "—" for null or a non-finite value. */
+export function formatNumber(value: number | null | undefined, significantDigits = 4): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return '—'
+  // Powers of ten for values a fixed-point form would show as a long row of zeros (4.1×10⁶ erg/cm³, 2.1×10⁻⁶ erg/cm).
+  const magnitude = Math.abs(value)
+  if (magnitude !== 0 && (magnitude < 1e-3 || magnitude >= 1e6)) {
+    const [mantissa, exponent] = value.toExponential(significantDigits - 1).split('e')
+    const trimmed = mantissa.includes('.') ? mantissa.replace(/\.?0+$/, '') : mantissa
+    return `${trimmed.replace(/^-/, '−')}×10${[...String(Number(exponent))].map((c) => SUPERSCRIPT[c] ?? c).join('')}`
+  }
+  return formatWith(significantDigits).format(value).replace(/^-/, '−')
+}
+
+/** "65.71 nm"; "—" alone when the value is not known. */
+export function formatQuantity(value: number | null | undefined, unit: string, significantDigits = 4): string {
+  const number = formatNumber(value, significantDigits)
+  return number === '—' || unit === '' ? number : `${number} ${unit}`
+}

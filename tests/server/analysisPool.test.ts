@@ -1,0 +1,136 @@
+/**
+ * The analysis worker pool (server/analysis/analysisPool.ts): a stack analysed in worker threads gives exactly the
+ * one-thread result of shared/analysis/analyzeStack.ts, frames land by index, a damaged frame is reported with its
+ * index while the others are kept, and the pool stays usable. Needs no database (it sits in the server project
+ * because it starts worker threads).
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { createAnalysisPool, measureMaskInPool, type AnalysisPool } from '../../server/analysis/analysisPool'
+import { StackFramesError, analyzeStackInPool } from '../../server/analysis/analyzeStackInPool'
+import { measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
+import { analyzeStack, type StackAnalysis, type StackMeta } from '../../shared/analysis/analyzeStack'
+import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
+import { decodeImage } from '../../shared/imageio/decodeImage'
+import { encodeTiff } from '../../shared/imageio/encodeTiff'
+import { renderFieldSweep, renderTemperatureRamp } from '../../scripts/sampleImages'
+
+/** The whole result as text, masks included, so "equal" means byte-identical. */
+function serialize(result: StackAnalysis): string {
+  return JSON.stringify(result, (_key, value: unknown) => (value instanceof Uint8Array ? Buffer.from(value).toString('base64') : value))
+}
+
+/** Set the Compression tag (259) of page `page` of a little-endian TIFF to Deflate, so its raw strips fail to inflate. */
+function breakPage(tiff: Uint8Array, page: number): Uint8Array {
+  const bytes = tiff.slice()
+  const view = new DataView(bytes.buffer)
+  let ifd = view.getUint32(4, true)
+  for (let p = 0; p < page; p++) ifd = view.getUint32(ifd + 2 + 12 * view.getUint16(ifd, true), true)
+  const entries = view.getUint16(ifd, true)
+  for (let e = 0; e < entries; e++) {
+    const entry = ifd + 2 + 12 * e
+    if (view.getUint16(entry, true) === 259) {
+      view.setUint16(entry + 8, 8, true)
+      return bytes
+    }
+  }
+  throw new Error('no Compression tag found')
+}
+
+const sweep = renderFieldSweep({ size: 128, seed: 77, maxFieldMT: 10, stepMT: 2 })
+const sweepBytes = encodeTiff(sweep.frames, { pixelSizeNm: 80 })
+const sweepMeta: StackMeta = { pixelSizeNm: 80, fieldUnit: 'mT', frames: sweep.fieldsMT.map((field) => ({ field, temperatureK: null })) }
+
+describe('analysis pool', () => {
+  let pool: AnalysisPool
+
+  beforeAll(async () => {
+    pool = createAnalysisPool({ size: 3 })
+    await pool.ready()
+  })
+  afterAll(async () => {
+    await pool.close()
+  })
+
+  it('When a field sweep is analysed in the pool, then the result equals the one-thread analysis byte for byte', async () => {
+    const recipe = normalizeRecipe({})
+    const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
+    const single = analyzeStack(frames, recipe, sweepMeta)
+    const pooled = await analyzeStackInPool(pool, sweepBytes, 'sweep.tif', recipe, sweepMeta)
+    expect(pooled.loop).not.toBeNull()
+    expect(serialize(pooled)).toBe(serialize(single))
+  })
+
+  it.each<[string, Partial<AnalysisRecipe>]>([
+    ['a reference frame and drift registration', { background: 'reference', referenceFrame: 0, registerFrames: true }],
+    ['per-frame k-means', { method: 'kmeans', background: 'none', smoothingSigma: 0 }],
+  ])('When the recipe uses %s, then pool and one thread still agree byte for byte', async (_name, options) => {
+    const recipe = normalizeRecipe(options)
+    const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
+    expect(serialize(await analyzeStackInPool(pool, sweepBytes, 'sweep.tif', recipe, sweepMeta))).toBe(serialize(analyzeStack(frames, recipe, sweepMeta)))
+  })
+
+  it('When a temperature ramp is analysed in the pool, then the Curie fit equals the one-thread one', async () => {
+    const ramp = renderTemperatureRamp({ size: 64, seed: 5, temperaturesK: [300, 320, 340, 360, 380, 390, 395, 400, 410] })
+    const bytes = encodeTiff(ramp.frames)
+    const meta: StackMeta = { pixelSizeNm: null, fieldUnit: null, frames: ramp.temperaturesK.map((t) => ({ field: null, temperatureK: t })) }
+    const recipe = normalizeRecipe({})
+    const pooled = await analyzeStackInPool(pool, bytes, 'ramp.tif', recipe, meta)
+    expect(pooled.curie).not.toBeNull()
+    expect(serialize(pooled)).toBe(serialize(analyzeStack(ramp.frames, recipe, meta)))
+  })
+
+  it('When frames are requested out of order, then every outcome carries the index it was asked for', async () => {
+    const file = pool.shareFile(sweepBytes, 'sweep.tif')
+    try {
+      const indices = [7, 0, 10, 3, 9, 1]
+      const outcomes = await pool.measurePass(file, indices, normalizeRecipe({ stackThreshold: 'per-frame' }), { pixelSizeNm: 80 })
+      expect(outcomes.map((o) => o.index)).toEqual(indices)
+      const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
+      for (const outcome of outcomes) {
+        expect(outcome.ok).toBe(true)
+        if (outcome.ok) expect(outcome.value.measurements).toEqual(analyzeStack([frames[outcome.index]], normalizeRecipe({ stackThreshold: 'per-frame' }), { pixelSizeNm: 80, fieldUnit: null, frames: [{ field: null, temperatureK: null }] }).frames[0])
+      }
+    } finally {
+      pool.releaseFile(file)
+    }
+  })
+
+  it('When one frame of the file is damaged, then it is reported with its index, the others are kept and the pool still works', async () => {
+    const broken = breakPage(sweepBytes, 4)
+    const file = pool.shareFile(broken, 'broken.tif')
+    const indices = sweep.frames.map((_, i) => i)
+    try {
+      const outcomes = await pool.measurePass(file, indices, normalizeRecipe({}), { pixelSizeNm: 80, threshold: 15000 })
+      const failed = outcomes.filter((o) => !o.ok)
+      expect(failed.map((o) => o.index)).toEqual([4])
+      expect(failed[0].ok === false && failed[0].error.message).toContain('broken.tif')
+      expect(failed[0].ok === false && failed[0].error.code).toBe('corrupt-image')
+      expect(outcomes.filter((o) => o.ok)).toHaveLength(indices.length - 1)
+    } finally {
+      pool.releaseFile(file)
+    }
+    const error = await analyzeStackInPool(pool, broken, 'broken.tif', normalizeRecipe({}), sweepMeta).catch((e: unknown) => e)
+    expect(error).toBeInstanceOf(StackFramesError)
+    expect((error as StackFramesError).failures.map((f) => f.index)).toEqual([4])
+    expect((error as StackFramesError).message).toContain('frame 4')
+    // The same pool then analyses the intact file.
+    const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
+    expect(serialize(await analyzeStackInPool(pool, sweepBytes, 'sweep.tif', normalizeRecipe({}), sweepMeta))).toBe(serialize(analyzeStack(frames, normalizeRecipe({}), sweepMeta)))
+  })
+
+  it('When a saved mask is measured in the pool, then the measurements equal the one-thread ones', async () => {
+    const recipe = normalizeRecipe({})
+    const frame = sweep.frames[5]
+    const { masks } = analyzeStack([frame], recipe, { pixelSizeNm: 80, fieldUnit: null, frames: [{ field: null, temperatureK: null }] })
+    const local = measureMask(masks[0], { pixelSizeNm: 80, image: preprocessFrame(frame, recipe), detail: true })
+    const pooled = await measureMaskInPool(pool, masks[0], { pixelSizeNm: 80, frame, recipe, detail: true })
+    expect(pooled).toEqual(local)
+    expect(pooled.measurements.contrast).not.toBeNull()
+  })
+
+  it('When the pool is closed, then new work is refused with a clear error', async () => {
+    const other = createAnalysisPool({ size: 1 })
+    await other.close()
+    await expect(other.measureMask({ width: 1, height: 1, data: new Uint8Array([1]) }, { pixelSizeNm: null })).rejects.toThrow('closed')
+  })
+})
