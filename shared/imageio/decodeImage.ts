@@ -16,7 +16,10 @@
  * `spacing=` entries are not used: in key=value descriptions they conventionally give the distance between slices of
  * a z-stack, not the in-plane pixel pitch.
  * Safety: sizes are read from the headers (PNG IHDR, JPEG SOFn, every TIFF IFD) and checked against DecodeLimits
- * before any pixel buffer exists; the TIFF page walk is capped at `maxFrames` directories and detects loops.
+ * before any pixel buffer exists; the TIFF page walk is capped at `maxFrames` directories and detects loops. A header
+ * must also be plausible for the data behind it (PNG: Deflate's 1032:1 bound; JPEG: a bit per 8 × 8 block; TIFF:
+ * each block's coding bound), so a small file cannot make a decoder allocate a large declared size; jimp's JPEG
+ * decoder gets a memory cap derived from the checked frame header.
  * Frame numbering: frames are 0-based, in file order; TIFF pages flagged as reduced-resolution copies or transparency
  * masks (NewSubfileType bits 0 and 2) are skipped.
  */
@@ -24,8 +27,8 @@ import type { GeoTIFF, GeoTIFFImage } from 'geotiff'
 import type { GrayImage } from '../analysis/types'
 import { formatLength, pixelSizeFromTiffResolution, parseLength } from '../units/lengthUnits'
 import { ImageDecodeError } from './imageDecodeError'
-import { readJpegHeader } from './readJpegHeader'
-import { readPngHeader } from './readPngHeader'
+import { blockCount, minimumScanBytes, readJpegHeader, type JpegHeader } from './readJpegHeader'
+import { minimumImageDataBytes, readPngHeader } from './readPngHeader'
 import { readTiffDirectories, SUPPORTED_TIFF_COMPRESSIONS, type TiffPage } from './readTiffDirectories'
 
 export { ImageDecodeError, type ImageDecodeErrorCode } from './imageDecodeError'
@@ -122,9 +125,20 @@ function ownBuffer(bytes: Uint8Array): ArrayBuffer {
   return whole ? (bytes.buffer as ArrayBuffer) : (bytes.slice().buffer as ArrayBuffer)
 }
 
+/** Refusal of a header whose declared size its data cannot hold (checked after the limits, which answer 413 first). */
+function tooLittleData(format: string, fileName: string, dataBytes: number, width: number, height: number): ImageDecodeError {
+  return new ImageDecodeError(
+    'corrupt-image',
+    fileName,
+    `the ${format} is damaged: ${dataBytes.toLocaleString('en')} bytes of image data cannot hold the declared ` +
+      `${width} × ${height} pixels (the file is cut short or its header is wrong).`,
+  )
+}
+
 function probePng(bytes: Uint8Array, fileName: string, limits: DecodeLimits): ImageHeader {
   const png = readPngHeader(bytes, fileName)
   checkFrameSize(png.width, png.height, fileName, limits)
+  if (png.imageDataBytes < minimumImageDataBytes(png)) throw tooLittleData('PNG', fileName, png.imageDataBytes, png.width, png.height)
   const notes: string[] = []
   if (png.bitDepth === 16) {
     notes.push('16-bit PNG read with 8 bits per sample (the PNG decoder keeps the high byte); use TIFF to keep 16 bits')
@@ -137,6 +151,7 @@ function probePng(bytes: Uint8Array, fileName: string, limits: DecodeLimits): Im
 function probeJpeg(bytes: Uint8Array, fileName: string, limits: DecodeLimits): ImageHeader {
   const jpeg = readJpegHeader(bytes, fileName)
   checkFrameSize(jpeg.width, jpeg.height, fileName, limits)
+  if (jpeg.scanBytes < minimumScanBytes(jpeg)) throw tooLittleData('JPEG', fileName, jpeg.scanBytes, jpeg.width, jpeg.height)
   const notes = jpeg.components >= 3 ? [LUMA_NOTE] : []
   // jimp turns the picture upright by its EXIF orientation; 5–8 include a quarter turn, swapping width and height.
   if (jpeg.orientation !== 1) notes.push(`EXIF orientation ${jpeg.orientation} applied (picture turned upright)`)
@@ -160,12 +175,27 @@ function baseHeader(format: 'png' | 'jpeg', width: number, height: number, notes
   return header
 }
 
-async function decodeWithJimp(bytes: Uint8Array, fileName: string, limits: DecodeLimits): Promise<GrayImage> {
+/**
+ * Memory cap for jpeg-js (jimp's JPEG decoder), from the checked frame header. jpeg-js counts 256 bytes per allocated
+ * 8 × 8 block (blocks padded to whole MCUs: up to Hmax × Vmax more per component), 64 per block for the component
+ * planes and width × height × (components + 4) for its output; twice that plus 16 MB leaves room for the padding.
+ * Its default, 512 MB whatever the header says, would let a second frame header hidden after the first scan (read by
+ * jpeg-js, never by readJpegHeader) make a 1 kB file allocate that much.
+ */
+function jpegMemoryCapMB(jpeg: JpegHeader): number {
+  const accounted = blockCount(jpeg) * (256 + 64) + jpeg.width * jpeg.height * (jpeg.components + 4)
+  return Math.min(512, Math.ceil((2 * accounted) / 2 ** 20) + 16)
+}
+
+async function decodeWithJimp(bytes: Uint8Array, fileName: string, limits: DecodeLimits, jpeg: JpegHeader | null): Promise<GrayImage> {
   const { Jimp } = await import('jimp')
   let bitmap: { width: number; height: number; data: Uint8Array }
   try {
     const image = await Jimp.fromBuffer(ownBuffer(bytes), {
-      'image/jpeg': { maxResolutionInMP: limits.maxPixelsPerFrame / 1e6 },
+      'image/jpeg': {
+        maxResolutionInMP: limits.maxPixelsPerFrame / 1e6,
+        ...(jpeg !== null ? { maxMemoryUsageInMB: jpegMemoryCapMB(jpeg) } : {}),
+      },
     })
     bitmap = image.bitmap
   } catch (err) {
@@ -491,7 +521,9 @@ export async function decodeFrame(bytes: Uint8Array, fileName: string, index: nu
   if (!Number.isInteger(index) || index < 0 || index >= header.frameCount) {
     throw new RangeError(`Frame ${index} does not exist in "${fileName}" (${header.frameCount} frame(s), numbered from 0).`)
   }
-  if (header.format !== 'tiff') return decodeWithJimp(bytes, fileName, resolved)
+  if (header.format !== 'tiff') {
+    return decodeWithJimp(bytes, fileName, resolved, header.format === 'jpeg' ? readJpegHeader(bytes, fileName) : null)
+  }
   return decodeTiffFrame(await tiffContext(bytes, fileName, resolved), fileName, index)
 }
 

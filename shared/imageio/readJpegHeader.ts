@@ -9,6 +9,10 @@
  * swap width and height) [from memory, EXIF 2.3 / TIFF 6.0]; read because jimp applies it when decoding.
  * Why: the size must be checked against the limits before the decoder allocates it, and a file cut off before its
  * end-of-image marker should be reported rather than decoded into a partly grey picture.
+ * Plausibility: in Huffman-coded frames every 8 × 8 block of every component starts with a DC difference whose code
+ * is at least one bit long (T.81 F.1.2.1, and G.1.2.1 for the first DC scan of progressive files) [from memory], so
+ * scan data shorter than one bit per block cannot hold the declared frame: the header lies or the data was cut.
+ * Component sampling factors must be 1–4 (T.81 B.2.2) [from memory].
  */
 import { ImageDecodeError } from './imageDecodeError'
 
@@ -18,8 +22,30 @@ export interface JpegHeader {
   /** Sample precision in bits (8 for baseline; 12 or 16 in extended or lossless files). */
   precision: number
   components: number
+  /** Horizontal and vertical sampling factor of each component, in frame-header order. */
+  sampling: { h: number; v: number }[]
+  /** Arithmetic-coded frame (SOF9–11, SOF13–15), for which the one-bit-per-block bound does not hold. */
+  arithmetic: boolean
+  /** Bytes from the first start-of-scan marker to the end-of-image marker. */
+  scanBytes: number
   /** EXIF Orientation (1 when absent or unreadable). */
   orientation: number
+}
+
+/** 8 × 8 blocks over all components (T.81 A.2: component i has ⌈X·Hi/Hmax⌉ × ⌈Y·Vi/Vmax⌉ samples) [from memory]. */
+export function blockCount(header: Pick<JpegHeader, 'width' | 'height' | 'sampling'>): number {
+  const hMax = Math.max(1, ...header.sampling.map((c) => c.h))
+  const vMax = Math.max(1, ...header.sampling.map((c) => c.v))
+  let blocks = 0
+  for (const { h, v } of header.sampling) {
+    blocks += Math.ceil(Math.ceil((header.width * h) / hMax) / 8) * Math.ceil(Math.ceil((header.height * v) / vMax) / 8)
+  }
+  return blocks
+}
+
+/** Fewest bytes of scan data that can hold the frame: one bit per block for Huffman coding, no bound for arithmetic. */
+export function minimumScanBytes(header: Pick<JpegHeader, 'width' | 'height' | 'sampling' | 'arithmetic'>): number {
+  return header.arithmetic ? 0 : Math.floor(blockCount(header) / 8)
 }
 
 /** EXIF Orientation from an APP1 segment body (`start`..`end`), or 1. Every read is bounds-checked. */
@@ -54,7 +80,7 @@ export function readJpegHeader(bytes: Uint8Array, fileName: string): JpegHeader 
   const corrupt = (detail: string) => new ImageDecodeError('corrupt-image', fileName, `the JPEG is damaged: ${detail}`)
   const u16 = (at: number) => (bytes[at] << 8) | bytes[at + 1]
   let at = 2
-  let header: Omit<JpegHeader, 'orientation'> | null = null
+  let header: Omit<JpegHeader, 'orientation' | 'scanBytes'> | null = null
   let orientation = 1
   for (;;) {
     if (at + 2 > bytes.length) throw corrupt('the file ends before the image data (truncated?).')
@@ -73,7 +99,19 @@ export function readJpegHeader(bytes: Uint8Array, fileName: string): JpegHeader 
     if (length < 2 || at + length > bytes.length) throw corrupt(`the segment at byte ${at - 2} runs past the end of the file (truncated?).`)
     if (isFrameMarker(marker)) {
       if (length < 8) throw corrupt('the frame header is too short.')
-      header = { precision: bytes[at + 2], height: u16(at + 3), width: u16(at + 5), components: bytes[at + 7] }
+      const components = bytes[at + 7]
+      if (components === 0) throw corrupt('the frame header lists no colour components.')
+      if (length < 8 + 3 * components) throw corrupt(`the frame header is too short for its ${components} components.`)
+      const sampling: { h: number; v: number }[] = []
+      for (let c = 0; c < components; c++) {
+        const factors = bytes[at + 9 + 3 * c]
+        const h = factors >> 4
+        const v = factors & 15
+        if (h < 1 || h > 4 || v < 1 || v > 4) throw corrupt(`component ${c + 1} has sampling factors ${h} × ${v}; they must be 1 to 4.`)
+        sampling.push({ h, v })
+      }
+      const arithmetic = marker >= 0xc9
+      header = { precision: bytes[at + 2], height: u16(at + 3), width: u16(at + 5), components, sampling, arithmetic }
     }
     if (marker === 0xe1 && orientation === 1) orientation = exifOrientation(bytes, at + 2, at + length)
     if (marker === 0xda) {
@@ -96,5 +134,5 @@ export function readJpegHeader(bytes: Uint8Array, fileName: string): JpegHeader 
   let end = bytes.length - 2
   while (end > at && !(bytes[end] === 0xff && bytes[end + 1] === 0xd9)) end--
   if (end <= at) throw corrupt('the end-of-image marker is missing (truncated?).')
-  return { ...header, orientation }
+  return { ...header, scanBytes: end - at, orientation }
 }

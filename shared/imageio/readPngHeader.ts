@@ -7,6 +7,9 @@
  * [from memory]; tests compare with node:zlib crc32.
  * Why: the declared size must be checked against the limits before a decoder allocates width × height × 4 bytes
  * (a few hundred bytes can declare 50 000 × 50 000 pixels), and a truncated file should be named as such.
+ * Plausibility: Deflate expands at most 1032:1 (its longest match, 258 bytes, costs at least 2 bits) [from memory,
+ * zlib technical details], so IDAT data shorter than the declared pixels / 1032 cannot hold the image: the header lies
+ * or the data was cut (pngjs would otherwise pad the missing rows and allocate the full declared size).
  */
 import { ImageDecodeError } from './imageDecodeError'
 
@@ -17,6 +20,22 @@ export interface PngHeader {
   bitDepth: number
   /** 0 grey, 2 RGB, 3 palette, 4 grey + alpha, 6 RGB + alpha. */
   colorType: number
+  /** Bytes of compressed image data (all IDAT chunks together). */
+  imageDataBytes: number
+}
+
+/** Most bytes Deflate can produce from one compressed byte. */
+export const MAX_DEFLATE_EXPANSION = 1032
+
+const SAMPLES_PER_PIXEL: Record<number, number> = { 0: 1, 2: 3, 3: 1, 4: 2, 6: 4 }
+
+/**
+ * Fewest compressed bytes that can hold the declared image: its sample bits (without the per-row filter bytes, so the
+ * bound holds for interlaced files too) divided by MAX_DEFLATE_EXPANSION.
+ */
+export function minimumImageDataBytes(header: Pick<PngHeader, 'width' | 'height' | 'bitDepth' | 'colorType'>): number {
+  const bits = header.width * header.height * (SAMPLES_PER_PIXEL[header.colorType] ?? 1) * header.bitDepth
+  return Math.floor(bits / 8 / MAX_DEFLATE_EXPANSION)
 }
 
 const SIGNATURE = [0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]
@@ -66,6 +85,7 @@ export function readPngHeader(bytes: Uint8Array, fileName: string): PngHeader {
     height: view.getUint32(20),
     bitDepth: bytes[24],
     colorType: bytes[25],
+    imageDataBytes: 0,
   }
   if (header.width < 1 || header.height < 1 || header.width > 0x7fffffff || header.height > 0x7fffffff) {
     throw corrupt(`IHDR declares a size of ${header.width} × ${header.height} pixels.`)
@@ -82,7 +102,10 @@ export function readPngHeader(bytes: Uint8Array, fileName: string): PngHeader {
     if (length > 0x7fffffff || at + 12 + length > bytes.length) {
       throw corrupt(`the file ends inside the ${type} chunk at byte ${at} (truncated?).`)
     }
-    if (type === 'IDAT') sawImageData = true
+    if (type === 'IDAT') {
+      sawImageData = true
+      header.imageDataBytes += length
+    }
     if (type === 'IEND') break
     at += 12 + length
   }

@@ -7,7 +7,8 @@
  * Checked against: files written by tifffile 2023.2.3 and Pillow 9.4.0 (tests/fixtures) and by encodeTiff.
  * Why our own walk when geotiff parses IFDs too: the page count and every page's size must be known and checked against
  * the limits before geotiff allocates anything, and a hostile chain (a loop, or thousands of pages) must cost at most
- * `maxDirectories` small reads. Every offset is bounds-checked; strip and tile byte ranges must lie inside the file.
+ * `maxDirectories` small reads. Every offset is bounds-checked; strip and tile byte ranges must lie inside the file and
+ * be long enough to decode to the block's size (see MAX_EXPANSION).
  */
 import { ImageDecodeError } from './imageDecodeError'
 
@@ -83,6 +84,21 @@ export const SUPPORTED_TIFF_COMPRESSIONS: ReadonlyMap<number, string> = new Map(
   [8, 'Deflate'],
   [32946, 'Deflate'],
   [32773, 'PackBits'],
+])
+
+/**
+ * Most bytes one compressed byte can decode to, per compression: LZW emits at most 4096 bytes (its longest table
+ * string) per code of at least 9 bits; Deflate at most 1032 (a 258-byte match for 2 bits) [from memory, zlib technical
+ * details]; PackBits 128 per 2-byte run. A block whose byte count times this is below its decoded size cannot hold it,
+ * so a small file cannot declare a large page (an empty block, byte count 0, holds nothing). Source for the codings:
+ * TIFF 6.0 sections 9 and 13 [from memory].
+ */
+const MAX_EXPANSION: ReadonlyMap<number, number> = new Map([
+  [1, 1],
+  [5, Math.ceil((4096 * 8) / 9)],
+  [8, 1032],
+  [32946, 1032],
+  [32773, 64],
 ])
 
 class TiffReader {
@@ -308,10 +324,18 @@ function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: 
           `but the file has ${reader.length} bytes (truncated?).`,
       )
     }
-    if (page.compression === 1 && page.bitsPerSample > 0 && counts[i] > 0) {
+    const expansion = MAX_EXPANSION.get(page.compression)
+    if (expansion !== undefined && page.bitsPerSample > 0) {
       const rows = tiled ? blockHeight : Math.min(blockHeight, page.height - (i % blocksDown) * blockHeight)
-      if (counts[i] < rawBytes(rows)) {
-        throw reader.corrupt(`uncompressed data block ${i + 1} of page ${number} holds ${counts[i]} bytes; it needs ${rawBytes(rows)}.`)
+      const needed = rawBytes(rows)
+      if (expansion === 1 && counts[i] < needed) {
+        throw reader.corrupt(`uncompressed data block ${i + 1} of page ${number} holds ${counts[i]} bytes; it needs ${needed}.`)
+      }
+      if (counts[i] * expansion < needed) {
+        throw reader.corrupt(
+          `data block ${i + 1} of page ${number} holds ${counts[i]} bytes of ${SUPPORTED_TIFF_COMPRESSIONS.get(page.compression)} data, ` +
+            `too few for the ${needed} bytes its size needs (truncated, or the header is wrong).`,
+        )
       }
     }
   }
