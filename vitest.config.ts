@@ -20,7 +20,7 @@ export default defineConfig({
     projects: [
       {
         resolve: { alias },
-        test: { name: 'shared', environment: 'node', include: ['tests/shared/**/*.test.ts'], testTimeout: 30_000 },
+        test: { name: 'shared', environment: 'node', include: ['tests/shared/**/*.test.ts', 'tests/scripts/**/*.test.ts'], testTimeout: 30_000 },
       },
       {
         resolve: { alias },

@@ -96,7 +96,8 @@ export function preprocessFrame(image: GrayImage | FloatImage, recipe: AnalysisR
     current = flattenField(current, recipe.flattenSigma)
   }
   if (recipe.denoise !== 'none') current = medianFilter(current, recipe.denoise === 'median3' ? 1 : 2)
-  if (recipe.smoothingSigma > 0) return gaussianBlur(current, recipe.smoothingSigma)
+  // An intermediate made here can be smoothed in place; the caller's own image cannot.
+  if (recipe.smoothingSigma > 0) return gaussianBlur(current, recipe.smoothingSigma, undefined, current !== image && current.data instanceof Float32Array ? current.data : undefined)
   return current.data instanceof Float32Array ? (current as FloatImage) : { width: current.width, height: current.height, data: Float32Array.from(current.data) }
 }
 
@@ -122,11 +123,13 @@ export function histogramOnRange(image: FloatImage, min: number, max: number, bi
     return counts
   }
   const scale = bins / (max - min)
+  const last = bins - 1
   for (let i = 0; i < data.length; i++) {
-    let b = Math.floor((data[i] - min) * scale)
-    if (b >= bins) b = bins - 1
-    else if (b < 0) b = 0
-    counts[b]++
+    const t = (data[i] - min) * scale
+    // floor(t) clamped to [0, bins − 1]; |0 is floor for 0 ≤ t < bins. NaN pixels are not counted.
+    if (t >= bins) counts[last]++
+    else if (t >= 0) counts[t | 0]++
+    else if (t < 0) counts[0]++
   }
   return counts
 }
@@ -174,6 +177,14 @@ export function cleanMask(mask: BinaryMask, recipe: AnalysisRecipe): { mask: Bin
   return { mask: current, reassignedFraction: 0 }
 }
 
+/** Label buffers of measureMask (only counts and sizes leave it), kept for the largest frame seen. */
+let labelScratch = { upLabels: new Int32Array(0), downLabels: new Int32Array(0) }
+
+function labelBuffers(n: number): { upLabels: Int32Array; downLabels: Int32Array } {
+  if (labelScratch.upLabels.length < n) labelScratch = { upLabels: new Int32Array(n), downLabels: new Int32Array(n) }
+  return labelScratch
+}
+
 const round = (value: number | null, digits = 6) => (value === null || !Number.isFinite(value) ? null : Number(value.toPrecision(digits)))
 
 /**
@@ -184,10 +195,11 @@ export function measureMask(mask: BinaryMask, context: { pixelSizeNm: number | n
   const { width, height } = mask
   const nm = context.pixelSizeNm && context.pixelSizeNm > 0 ? context.pixelSizeNm : null
   const fractions = areaFractions(mask)
-  const phases = labelBothPhases(mask)
+  const phases = labelBothPhases(mask, labelBuffers(width * height))
   const sizes = domainSizeStats(phases.up)
   const widths = localDomainWidths(mask)
-  const period = domainPeriod({ width, height, data: Float32Array.from(mask.data) })
+  // The 0/1 values without the ignore map: the spectrum sees ignored pixels with their stored phase.
+  const period = domainPeriod({ width, height, data: mask.data })
   const orientation = stripeOrientation({ width, height, data: mask.data })
   const walls = wallDensity(mask)
   const contrast = context.image ? domainContrast(context.image, mask).contrast : null

@@ -9,16 +9,16 @@
  *   reference from memory]).
  * - Flat-fielding without a flat frame: subtract a Gaussian low-pass (σ well above the domain size) and add back its
  *   mean, so illumination gradients go and the mean grey level stays [P]. Large σ are computed on a decimated grid
- *   (anti-alias blur, sample every 4 px, blur, bilinear back), which is 6× faster and matches the full-resolution
- *   low-pass to under 1 % of the domain contrast more than 2σ from the border (nearer, both are edge-replication
- *   guesses and differ by more; tests).
+ *   (anti-alias blur evaluated only at the samples, sample every 4 px, blur, bilinear back), which is 6× faster and
+ *   matches the full-resolution low-pass to under 1 % of the domain contrast more than 2σ from the border (nearer,
+ *   both are edge-replication guesses and differ by more; tests).
  * - Saturated references: m = (2I − I+ − I−)/(I+ − I−), clipped to [−1, 1] (linear Kerr response assumed) [P].
  * Checked against: METHODS.md check #32 (I+ 120, I− 80, I 110 → m = 0.50) and #31 (70 % of pixels at I+, 30 % at
  * I− → mean m = 0.40 = 2·0.70 − 1) [D]; synthetic ramp + stripes in the tests.
  * Input: GrayImage/FloatImage frames of equal size (register them first, §8.3); σ in pixels.
  * Output: new FloatImages; differences in input intensity units, ratios and m dimensionless.
  */
-import { gaussianBlur } from './gaussianBlur'
+import { gaussianBlur, gaussianKernel } from './gaussianBlur'
 import type { FloatImage, GrayImage } from './types'
 
 type Frame = GrayImage | FloatImage
@@ -84,24 +84,75 @@ function interpolationTable(positions: Int32Array, n: number): { index: Int32Arr
 }
 
 /**
+ * gaussianBlur(image, σ) read only at the pixels (xs[i], ys[j]), without computing the others: the row pass at the
+ * sampled columns of every row, then the column pass at the sampled rows. Same kernel, tap order, edge replication
+ * and float32 rounding as gaussianBlur, so the values are identical to sampling the full-resolution blur.
+ */
+function sampledGaussian(image: Frame, sigma: number, xs: Int32Array, ys: Int32Array): Float32Array {
+  const { width, height, data } = image
+  const kernel = gaussianKernel(sigma)
+  const radius = (kernel.length - 1) >> 1
+  const nx = xs.length
+  const ny = ys.length
+  // The float32 value of each input sample, as gaussianBlur converts integer frames.
+  const f = Math.fround
+  const rows = new Float32Array(height * nx)
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    for (let i = 0; i < nx; i++) {
+      const x = xs[i]
+      let acc = 0
+      for (let k = -radius; k <= radius; k++) {
+        let xx = x + k
+        if (xx < 0) xx = 0
+        else if (xx >= width) xx = width - 1
+        acc += f(data[row + xx]) * kernel[k + radius]
+      }
+      rows[y * nx + i] = acc
+    }
+  }
+  const out = new Float32Array(nx * ny)
+  for (let j = 0; j < ny; j++) {
+    const y = ys[j]
+    for (let i = 0; i < nx; i++) {
+      let acc = 0
+      for (let k = -radius; k <= radius; k++) {
+        let yy = y + k
+        if (yy < 0) yy = 0
+        else if (yy >= height) yy = height - 1
+        acc = f(acc + rows[yy * nx + i] * kernel[k + radius])
+      }
+      out[j * nx + i] = acc
+    }
+  }
+  return out
+}
+
+/** The low-pass of flattenField, kept for the largest frame seen (it never leaves flattenField). */
+let backgroundScratch = new Float32Array(0)
+
+function backgroundBuffer(n: number): Float32Array {
+  if (backgroundScratch.length < n) backgroundScratch = new Float32Array(n)
+  return backgroundScratch.subarray(0, n)
+}
+
+/**
  * Large-σ Gaussian low-pass computed on a grid decimated by DECIMATION: anti-alias blur (σ1), sampling, blur of the
  * small grid with √(σ² − σ1²)/DECIMATION, bilinear interpolation back. Equivalent to the full-resolution blur for a
  * background that is smooth on the DECIMATION scale, at about 1/6 of the cost for σ ≈ 20.
  */
 function decimatedGaussian(image: Frame, sigma: number): Float32Array {
   const { width, height } = image
-  const pre = gaussianBlur(image, PRE_BLUR_SIGMA).data
   const xs = samplePositions(width)
   const ys = samplePositions(height)
   const nx = xs.length
   const ny = ys.length
-  const small = new Float32Array(nx * ny)
-  for (let j = 0; j < ny; j++) for (let i = 0; i < nx; i++) small[j * nx + i] = pre[ys[j] * width + xs[i]]
+  const small = sampledGaussian(image, PRE_BLUR_SIGMA, xs, ys)
   const smallSigma = Math.sqrt(sigma * sigma - PRE_BLUR_SIGMA * PRE_BLUR_SIGMA) / DECIMATION
   const blurred = gaussianBlur({ width: nx, height: ny, data: small }, smallSigma).data
   const col = interpolationTable(xs, width)
   const row = interpolationTable(ys, height)
-  const out = new Float32Array(width * height)
+  const out = backgroundBuffer(width * height)
   for (let y = 0; y < height; y++) {
     const j = row.index[y]
     const ty = row.weight[y]
@@ -136,7 +187,7 @@ export function flattenField(image: Frame, sigma: number): FloatImage {
   const background =
     sigma >= MIN_DECIMATED_SIGMA && width >= MIN_DECIMATED_SIZE && height >= MIN_DECIMATED_SIZE
       ? decimatedGaussian(image, sigma)
-      : gaussianBlur(image, sigma).data
+      : gaussianBlur(image, sigma, undefined, backgroundBuffer(n)).data
   let sum = 0
   for (let i = 0; i < n; i++) sum += background[i]
   const mean = sum / n

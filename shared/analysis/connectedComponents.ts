@@ -13,6 +13,7 @@
  * 4 (edge neighbours) or 8 (edge + corner neighbours); optional ignore map (1 = excluded pixel, never labelled).
  * Output: Int32Array labels (0 = not in the phase), per-label sizes in pixels, border/ignore contact flags and
  * inclusive bounding boxes; per-label arrays have length count + 1 and index 0 is unused (zero).
+ * Buffers: the run tables of pass 1 are kept for the largest image seen, so labelling allocates only its outputs.
  */
 import type { BinaryMask, Connectivity } from './types'
 
@@ -53,12 +54,36 @@ function unite(parent: Int32Array, a: number, b: number): void {
   else if (rb < ra) parent[ra] = rb
 }
 
+/** Run tables of pass 1, kept for the largest image seen: they never leave labelComponents. */
+interface RunBuffers {
+  runStart: Int32Array
+  runEnd: Int32Array
+  runRow: Int32Array
+  parent: Int32Array
+  runLabel: Int32Array
+}
+
+let runScratch: RunBuffers = { runStart: new Int32Array(0), runEnd: new Int32Array(0), runRow: new Int32Array(0), parent: new Int32Array(0), runLabel: new Int32Array(0) }
+
+function runBuffers(maxRuns: number): RunBuffers {
+  if (runScratch.runStart.length < maxRuns) {
+    runScratch = { runStart: new Int32Array(maxRuns), runEnd: new Int32Array(maxRuns), runRow: new Int32Array(maxRuns), parent: new Int32Array(maxRuns), runLabel: new Int32Array(maxRuns) }
+  }
+  return runScratch
+}
+
+function runLabelBuffer(runs: number): Int32Array {
+  return runScratch.runLabel.length >= runs ? runScratch.runLabel : new Int32Array(runs)
+}
+
 /**
  * Label the pixels of `phase` equal to `value`.
  * @param connectivity 4 or 8.
  * @param value phase value to label (default 1 = up; pass 0 for down).
  * @param options.ignore ignore map (1 = excluded): ignored pixels are not labelled, and components adjacent to them
  *   get `touchesIgnore = 1`.
+ * @param options.labelsOut buffer of at least width·height ints to write the labels into (its first width·height
+ *   entries are returned as `labels`), so a caller that labels frame after frame allocates nothing per frame.
  * @returns labels numbered in raster order. An empty image or a phase with no pixel returns count 0.
  * @example labelComponents(new Uint8Array([1, 0, 0, 1]), 2, 2, 8).count // 1
  */
@@ -68,19 +93,19 @@ export function labelComponents(
   height: number,
   connectivity: Connectivity,
   value = 1,
-  options: { ignore?: Uint8Array } = {},
+  options: { ignore?: Uint8Array; labelsOut?: Int32Array } = {},
 ): ComponentLabels {
   const n = width * height
-  const labels = new Int32Array(n)
+  const reuse = options.labelsOut !== undefined && options.labelsOut.length >= n
+  const labels = reuse ? options.labelsOut!.subarray(0, n) : new Int32Array(n)
+  // Only run pixels are painted below, so a reused buffer is cleared first.
+  if (reuse) labels.fill(0)
   const ignore = options.ignore
   const reach = connectivity === 8 ? 1 : 0
 
   // Pass 1: runs per row, united with overlapping runs of the previous row. A row has at most ceil(width/2) runs.
   const maxRuns = Math.ceil(width / 2) * height
-  const runStart = new Int32Array(maxRuns)
-  const runEnd = new Int32Array(maxRuns)
-  const runRow = new Int32Array(maxRuns)
-  const parent = new Int32Array(maxRuns)
+  const { runStart, runEnd, runRow, parent } = runBuffers(maxRuns)
   let runs = 0
   let prevFirst = 0
   let prevEnd = 0
@@ -116,7 +141,7 @@ export function labelComponents(
   }
 
   // Resolve roots to consecutive labels in raster order (roots are the smallest run index, so first-seen order).
-  const runLabel = new Int32Array(runs)
+  const runLabel = runLabelBuffer(runs)
   let count = 0
   for (let i = 0; i < runs; i++) {
     const root = findRoot(parent, i)
@@ -187,11 +212,12 @@ function flagIgnoreContacts(
  * Label both phases with opposite connectivities: up (1) 8-connected, down (0) 4-connected (METHODS §1.4), so that
  * every down hole inside an up domain is a separate down component and no pair of diagonal pixels links both phases.
  * Pixels marked in `mask.ignore` belong to neither phase; components touching them are flagged.
+ * @param buffers optional label buffers to reuse (see labelComponents' `labelsOut`).
  */
-export function labelBothPhases(mask: BinaryMask): PhaseComponents {
+export function labelBothPhases(mask: BinaryMask, buffers: { upLabels?: Int32Array; downLabels?: Int32Array } = {}): PhaseComponents {
   const { data, width, height, ignore } = mask
   return {
-    up: labelComponents(data, width, height, 8, 1, { ignore }),
-    down: labelComponents(data, width, height, 4, 0, { ignore }),
+    up: labelComponents(data, width, height, 8, 1, { ignore, labelsOut: buffers.upLabels }),
+    down: labelComponents(data, width, height, 4, 0, { ignore, labelsOut: buffers.downLabels }),
   }
 }

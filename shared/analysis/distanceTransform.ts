@@ -167,20 +167,43 @@ function transform(
   const sy2 = sampling.y * sampling.y
   const sx2 = sampling.x * sampling.x
   const { f, v, h, z, d, arg } = rowBuffers(width)
+  const last = width - 1
   for (let y = 0; y < height; y++) {
     const row = y * width
+    let phasePixels = 0
     for (let x = 0; x < width; x++) {
-      const r = rowArg[row + x]
-      f[x] = r < 0 ? Infinity : sy2 * (y - r) * (y - r)
+      if (phase[row + x] === value) {
+        const r = rowArg[row + x]
+        f[x] = r < 0 ? Infinity : sy2 * (y - r) * (y - r)
+        phasePixels++
+      } else if ((x > 0 && phase[row + x - 1] === value) || (x < last && phase[row + x + 1] === value)) {
+        // An end of an other-phase run: a feature pixel (f = 0) that can be nearest to the phase.
+        f[x] = 0
+      } else {
+        // Inside an other-phase run the run's end is strictly nearer to every phase pixel of the row, so the
+        // parabola is left out of the envelope (this cannot change the envelope over the phase pixels, nor a tie).
+        f[x] = Infinity
+      }
+    }
+    // A row without phase pixels is all feature pixels: distance 0, each its own nearest.
+    if (phasePixels === 0) {
+      distance.fill(0, row, row + width)
+      if (nearest !== null) for (let x = 0; x < width; x++) nearest[row + x] = row + x
+      continue
     }
     if (!envelope1d(width, sx2, f, v, h, z, d, arg)) {
       distance.fill(Infinity, row, row + width)
       if (nearest !== null) nearest.fill(-1, row, row + width)
       continue
     }
-    for (let x = 0; x < width; x++) distance[row + x] = Math.sqrt(d[x])
+    // Other-phase pixels are their own nearest feature at distance 0 (exactly what the full envelope gives them).
+    for (let x = 0; x < width; x++) distance[row + x] = phase[row + x] === value ? Math.sqrt(d[x]) : 0
     if (nearest !== null) {
       for (let x = 0; x < width; x++) {
+        if (phase[row + x] !== value) {
+          nearest[row + x] = row + x
+          continue
+        }
         const col = arg[x]
         nearest[row + x] = rowArg[row + col] * width + col
       }

@@ -36,15 +36,26 @@ export function domainContrast(image: GrayImage | FloatImage, mask: BinaryMask):
   }
   const n = image.width * image.height
   const { data } = image
-  const sums = [0, 0]
-  const counts = [0, 0]
+  const phase = mask.data
+  const ignore = mask.ignore
+  // Per-phase sums in locals (index 0 = down, 1 = up), added in raster order.
+  let sum0 = 0
+  let sum1 = 0
+  let count0 = 0
+  let count1 = 0
   for (let i = 0; i < n; i++) {
     const v = data[i]
-    if (mask.ignore?.[i] || !Number.isFinite(v)) continue
-    const phase = mask.data[i] !== 0 ? 1 : 0
-    sums[phase] += v
-    counts[phase]++
+    if ((ignore !== undefined && ignore[i]) || !Number.isFinite(v)) continue
+    if (phase[i] !== 0) {
+      sum1 += v
+      count1++
+    } else {
+      sum0 += v
+      count0++
+    }
   }
+  const sums = [sum0, sum1]
+  const counts = [count0, count1]
   // An empty phase (all-up or all-down mask, or everything ignored) leaves no difference to measure.
   if (counts[0] === 0 || counts[1] === 0) {
     return {
@@ -57,11 +68,13 @@ export function domainContrast(image: GrayImage | FloatImage, mask: BinaryMask):
     }
   }
   const means = [sums[0] / counts[0], sums[1] / counts[1]]
+  const mean0 = means[0]
+  const mean1 = means[1]
   let squares = 0
   for (let i = 0; i < n; i++) {
     const v = data[i]
-    if (mask.ignore?.[i] || !Number.isFinite(v)) continue
-    const d = v - means[mask.data[i] !== 0 ? 1 : 0]
+    if ((ignore !== undefined && ignore[i]) || !Number.isFinite(v)) continue
+    const d = v - (phase[i] !== 0 ? mean1 : mean0)
     squares += d * d
   }
   const dof = counts[0] + counts[1] - 2

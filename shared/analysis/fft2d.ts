@@ -195,13 +195,24 @@ export interface HalfSpectrum extends ComplexImage {
 /**
  * Forward 2-D DFT of a real image, keeping only columns l = 0..W/2 (about half the work of `fft2d`): the other
  * columns follow from Hermitian symmetry F(k, W−l) = conj F((H−k) mod H, l). Used for power spectra.
+ * @param buffers optional buffers of at least (W/2 + 1)·H values to write the spectrum into (frames of one size then
+ *   allocate nothing); the returned arrays are views of them.
  * @throws RangeError when width or height is not a power of two.
  */
-export function realFft2dHalf(re: Float32Array | Float64Array, width: number, height: number): HalfSpectrum {
+export function realFft2dHalf(
+  re: Float32Array | Float64Array,
+  width: number,
+  height: number,
+  buffers?: { re: Float64Array; im: Float64Array },
+): HalfSpectrum {
   checkSize(width, height, re.length)
   const halfWidth = width === 1 ? 1 : width / 2 + 1
-  const outRe = new Float64Array(halfWidth * height)
-  const outIm = new Float64Array(halfWidth * height)
+  const size = halfWidth * height
+  const reuse = buffers !== undefined && buffers.re.length >= size && buffers.im.length >= size
+  const outRe = reuse ? buffers!.re.subarray(0, size) : new Float64Array(size)
+  const outIm = reuse ? buffers!.im.subarray(0, size) : new Float64Array(size)
+  // Every entry is written below except the imaginary column of a 1-wide image; clear a reused buffer for it.
+  if (reuse && width === 1) outIm.fill(0)
   if (width === 1) {
     for (let i = 0; i < height; i++) outRe[i] = re[i]
   } else {

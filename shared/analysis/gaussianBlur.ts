@@ -22,54 +22,153 @@ export function gaussianKernel(sigma: number): Float32Array {
   return kernel
 }
 
-/** Convolve every row of `src` with `kernel` into `dst` (edge replication). Kept small so the JIT optimises it early. */
+/**
+ * Convolve every row of `src` with `kernel` into `dst` (edge replication), summing the taps in kernel order in double
+ * precision. Only the first and last `radius` pixels of a row need the clamp; the 7-tap kernel (σ ≤ 1, the default
+ * smoothing and derivative scale) has an unrolled interior with the row window held in locals.
+ */
 function convolveRows(src: Float32Array, dst: Float32Array, width: number, height: number, kernel: Float32Array): void {
   const radius = (kernel.length - 1) >> 1
   for (let y = 0; y < height; y++) {
     const row = y * width
-    for (let x = 0; x < width; x++) {
-      let acc = 0
-      for (let k = -radius; k <= radius; k++) {
-        let xx = x + k
-        if (xx < 0) xx = 0
-        else if (xx >= width) xx = width - 1
-        acc += src[row + xx] * kernel[k + radius]
-      }
-      dst[row + x] = acc
+    if (radius === 3 && width > 6) {
+      convolveRowInterior7(src, dst, row, width, kernel)
+      convolveRowEdges(src, dst, row, width, kernel, 0, 3)
+      convolveRowEdges(src, dst, row, width, kernel, width - 3, width)
+    } else {
+      convolveRowEdges(src, dst, row, width, kernel, 0, width)
     }
   }
 }
 
-/** Convolve every column of `src` with `kernel` into `dst`, row by row for cache-friendly access. */
+/** Pixels from..to−1 of one row with clamped taps (any radius). */
+function convolveRowEdges(src: Float32Array, dst: Float32Array, row: number, width: number, kernel: Float32Array, from: number, to: number): void {
+  const radius = (kernel.length - 1) >> 1
+  for (let x = from; x < to; x++) {
+    let acc = 0
+    for (let k = -radius; k <= radius; k++) {
+      let xx = x + k
+      if (xx < 0) xx = 0
+      else if (xx >= width) xx = width - 1
+      acc += src[row + xx] * kernel[k + radius]
+    }
+    dst[row + x] = acc
+  }
+}
+
+/** Pixels 3..width−4 of one row with a 7-tap kernel: a sliding window of seven samples, same sum order. */
+function convolveRowInterior7(src: Float32Array, dst: Float32Array, row: number, width: number, kernel: Float32Array): void {
+  const k0 = kernel[0]
+  const k1 = kernel[1]
+  const k2 = kernel[2]
+  const k3 = kernel[3]
+  const k4 = kernel[4]
+  const k5 = kernel[5]
+  const k6 = kernel[6]
+  let a0 = src[row]
+  let a1 = src[row + 1]
+  let a2 = src[row + 2]
+  let a3 = src[row + 3]
+  let a4 = src[row + 4]
+  let a5 = src[row + 5]
+  const end = row + width - 3
+  for (let i = row + 3; i < end; i++) {
+    const a6 = src[i + 3]
+    // The leading 0 + keeps the generic loop's result for signed zeros (acc starts at +0 there).
+    dst[i] = 0 + a0 * k0 + a1 * k1 + a2 * k2 + a3 * k3 + a4 * k4 + a5 * k5 + a6 * k6
+    a0 = a1
+    a1 = a2
+    a2 = a3
+    a3 = a4
+    a4 = a5
+    a5 = a6
+  }
+}
+
+/**
+ * Convolve every column of `src` with `kernel` into `dst`, one output row at a time (it stays in cache) from the
+ * 2·radius + 1 input rows it needs, accumulating in float32 in kernel order (the rounding of a Float32Array sum).
+ */
 function convolveColumns(src: Float32Array, dst: Float32Array, width: number, height: number, kernel: Float32Array): void {
   const radius = (kernel.length - 1) >> 1
-  dst.fill(0)
-  for (let k = -radius; k <= radius; k++) {
-    const weight = kernel[k + radius]
-    for (let y = 0; y < height; y++) {
+  for (let y = 0; y < height; y++) {
+    const out = y * width
+    if (radius === 3 && y >= 3 && y < height - 3) {
+      convolveColumnRow7(src, dst, out, width, kernel)
+      continue
+    }
+    dst.fill(0, out, out + width)
+    for (let k = -radius; k <= radius; k++) {
+      const weight = kernel[k + radius]
       let yy = y + k
       if (yy < 0) yy = 0
       else if (yy >= height) yy = height - 1
-      const out = y * width
       const inp = yy * width
       for (let x = 0; x < width; x++) dst[out + x] += src[inp + x] * weight
     }
   }
 }
 
+/** One output row from the seven input rows around it (no clamping needed), float32 rounding after every tap. */
+function convolveColumnRow7(src: Float32Array, dst: Float32Array, out: number, width: number, kernel: Float32Array): void {
+  const f = Math.fround
+  const k0 = kernel[0]
+  const k1 = kernel[1]
+  const k2 = kernel[2]
+  const k3 = kernel[3]
+  const k4 = kernel[4]
+  const k5 = kernel[5]
+  const k6 = kernel[6]
+  const r0 = out - 3 * width
+  const r1 = out - 2 * width
+  const r2 = out - width
+  const r4 = out + width
+  const r5 = out + 2 * width
+  const r6 = out + 3 * width
+  for (let x = 0; x < width; x++) {
+    let acc = f(0 + src[r0 + x] * k0)
+    acc = f(acc + src[r1 + x] * k1)
+    acc = f(acc + src[r2 + x] * k2)
+    acc = f(acc + src[out + x] * k3)
+    acc = f(acc + src[r4 + x] * k4)
+    acc = f(acc + src[r5 + x] * k5)
+    dst[out + x] = acc + src[r6 + x] * k6
+  }
+}
+
+/** Float copy of integer input and the row-pass output, kept for the largest image seen (never returned). */
+let inputScratch = new Float32Array(0)
+let rowScratch = new Float32Array(0)
+
 /**
  * Gaussian-smooth `image` with standard deviation `sigma` pixels.
- * @param scratch optional reusable buffer of width*height floats (avoids an allocation per frame).
+ * @param scratch optional reusable buffer of width*height floats for the row pass (a module buffer otherwise).
+ * @param out optional buffer of at least width*height floats for the result (its first width*height values are
+ *   returned); it may be the input's own data (in-place smoothing).
  * @example gaussianBlur({ width: 3, height: 1, data: new Float32Array([0, 3, 0]) }, 1)
  */
-export function gaussianBlur(image: GrayImage | FloatImage, sigma: number, scratch?: Float32Array): FloatImage {
+export function gaussianBlur(image: GrayImage | FloatImage, sigma: number, scratch?: Float32Array, out?: Float32Array): FloatImage {
   const { width, height } = image
-  const src = image.data instanceof Float32Array ? image.data : Float32Array.from(image.data)
-  if (!(sigma > 0)) return { width, height, data: Float32Array.from(src) }
+  const n = width * height
+  let src: Float32Array
+  if (image.data instanceof Float32Array) {
+    src = image.data
+  } else {
+    if (inputScratch.length < n) inputScratch = new Float32Array(n)
+    src = inputScratch.subarray(0, n)
+    src.set(image.data.subarray(0, n))
+  }
+  if (!(sigma > 0)) return { width, height, data: Float32Array.from(src.subarray(0, n)) }
   const kernel = gaussianKernel(sigma)
-  const tmp = scratch && scratch.length >= width * height ? scratch : new Float32Array(width * height)
-  const out = new Float32Array(width * height)
+  let tmp: Float32Array
+  if (scratch && scratch.length >= n) {
+    tmp = scratch
+  } else {
+    if (rowScratch.length < n) rowScratch = new Float32Array(n)
+    tmp = rowScratch
+  }
+  const result = out !== undefined && out.length >= n ? out.subarray(0, n) : new Float32Array(n)
   convolveRows(src, tmp, width, height, kernel)
-  convolveColumns(tmp, out, width, height, kernel)
-  return { width, height, data: out }
+  convolveColumns(tmp, result, width, height, kernel)
+  return { width, height, data: result }
 }

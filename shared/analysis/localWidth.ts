@@ -104,19 +104,38 @@ function crossingDistance(
   start: number,
   limit: number,
 ): number {
-  const { width, height, ignore } = c
+  const { width, height, ignore, data, value } = c
+  const maxX = width - 1
+  const maxY = height - 1
   const x0 = x + start * ux
   const y0 = y + start * uy
-  if (x0 < 0 || y0 < 0 || x0 > width - 1 || y0 > height - 1) return -1
+  if (x0 < 0 || y0 < 0 || x0 > maxX || y0 > maxY) return -1
   let previous = start > 0 ? indicatorAt(c, x0, y0) : 1
   // Rounding can put the start exactly on the level; the crossing is then the start itself.
   if (previous <= 0.5) return start
+  // indicatorAt inlined (same arithmetic): the march is the hot loop of the width measurement.
+  const cellMaxX = Math.max(0, width - 2)
+  const cellMaxY = Math.max(0, height - 2)
   for (let t = start + RAY_STEP; t <= limit; t += RAY_STEP) {
     const sx = x + t * ux
     const sy = y + t * uy
-    if (sx < 0 || sy < 0 || sx > width - 1 || sy > height - 1) return -1
+    if (sx < 0 || sy < 0 || sx > maxX || sy > maxY) return -1
     if (ignore !== undefined && ignore[Math.round(sy) * width + Math.round(sx)] !== 0) return -1
-    const current = indicatorAt(c, sx, sy)
+    const fx0 = Math.floor(sx)
+    const fy0 = Math.floor(sy)
+    const cx = fx0 < cellMaxX ? fx0 : cellMaxX
+    const cy = fy0 < cellMaxY ? fy0 : cellMaxY
+    const cx1 = cx + 1 < maxX ? cx + 1 : maxX
+    const cy1 = cy + 1 < maxY ? cy + 1 : maxY
+    const fx = sx - cx
+    const fy = sy - cy
+    const top = cy * width
+    const bottom = cy1 * width
+    const v00 = data[top + cx] === value ? 1 : 0
+    const v01 = data[top + cx1] === value ? 1 : 0
+    const v10 = data[bottom + cx] === value ? 1 : 0
+    const v11 = data[bottom + cx1] === value ? 1 : 0
+    const current = (v00 * (1 - fx) + v01 * fx) * (1 - fy) + (v10 * (1 - fx) + v11 * fx) * fy
     if (current <= 0.5) return t - RAY_STEP + (RAY_STEP * (previous - 0.5)) / (previous - current)
     previous = current
   }
@@ -354,11 +373,49 @@ function mean(values: Float32Array, from: number, to: number): number | null {
   return s / (to - from)
 }
 
+/** Median by selection (Hoare's quickselect, C. A. R. Hoare 1961, Algorithm 65 "Find", CACM 4:321 [from memory]). */
 function median(values: Float32Array): number | null {
-  if (values.length === 0) return null
-  const sorted = Float64Array.from(values).sort()
-  const m = sorted.length >> 1
-  return sorted.length % 2 === 1 ? sorted[m] : 0.5 * (sorted[m - 1] + sorted[m])
+  const n = values.length
+  if (n === 0) return null
+  const work = Float64Array.from(values)
+  const m = n >> 1
+  const upper = selectKth(work, m)
+  if (n % 2 === 1) return upper
+  // After selecting the m-th value, everything left of m is ≤ it: the (m−1)-th is their maximum.
+  let lower = -Infinity
+  for (let i = 0; i < m; i++) if (work[i] > lower) lower = work[i]
+  return 0.5 * (lower + upper)
+}
+
+/** The k-th smallest value (0-based); rearranges `a` so that a[i] ≤ a[k] for i < k and a[i] ≥ a[k] for i > k. */
+function selectKth(a: Float64Array, k: number): number {
+  let lo = 0
+  let hi = a.length - 1
+  while (hi > lo) {
+    // Median of three as pivot keeps sorted and reversed input linear.
+    const mid = (lo + hi) >> 1
+    const x = a[lo]
+    const y = a[mid]
+    const z = a[hi]
+    const pivot = x < y ? (y < z ? y : x < z ? z : x) : x < z ? x : y < z ? z : y
+    let i = lo
+    let j = hi
+    while (i <= j) {
+      while (a[i] < pivot) i++
+      while (a[j] > pivot) j--
+      if (i <= j) {
+        const t = a[i]
+        a[i] = a[j]
+        a[j] = t
+        i++
+        j--
+      }
+    }
+    if (k <= j) hi = j
+    else if (k >= i) lo = i
+    else return a[k]
+  }
+  return a[k]
 }
 
 /**

@@ -37,12 +37,21 @@ function flipSmall(
   minArea: number,
   ignore: Uint8Array | undefined,
 ): void {
-  const { labels, count, sizes } = labelComponents(data, width, height, connectivity, value, { ignore })
+  if (labelScratch.length < width * height) labelScratch = new Int32Array(width * height)
+  const { labels, count, sizes } = labelComponents(data, width, height, connectivity, value, { ignore, labelsOut: labelScratch })
+  // small[l] = 1 for the components below minArea, the only ones that can be flipped.
+  const small = new Uint8Array(count + 1)
   let anySmall = false
-  for (let l = 1; l <= count; l++) if (sizes[l] < minArea) anySmall = true
+  for (let l = 1; l <= count; l++) {
+    if (sizes[l] < minArea) {
+      small[l] = 1
+      anySmall = true
+    }
+  }
   if (!anySmall) return
 
-  // A component has a surrounding phase only if one of its pixels has an edge neighbour of the other phase.
+  // A component has a surrounding phase only if one of its pixels has an edge neighbour of the other phase; only
+  // small components are asked.
   const other = 1 - value
   const hasNeighbour = new Uint8Array(count + 1)
   for (let y = 0; y < height; y++) {
@@ -50,7 +59,7 @@ function flipSmall(
     for (let x = 0; x < width; x++) {
       const i = row + x
       const label = labels[i]
-      if (label === 0 || hasNeighbour[label] === 1) continue
+      if (small[label] === 0 || hasNeighbour[label] === 1) continue
       if (
         (x > 0 && isOther(data, ignore, i - 1, other)) ||
         (x < width - 1 && isOther(data, ignore, i + 1, other)) ||
@@ -64,9 +73,13 @@ function flipSmall(
 
   for (let i = 0; i < labels.length; i++) {
     const label = labels[i]
-    if (label !== 0 && sizes[label] < minArea && hasNeighbour[label] === 1) data[i] = other
+    if (small[label] === 1 && hasNeighbour[label] === 1) data[i] = other
   }
 }
+
+/** Labels of flipSmall and the copy of the mask before filtering, kept for the largest image seen (never returned). */
+let labelScratch = new Int32Array(0)
+let beforeScratch = new Uint8Array(0)
 
 function isOther(data: Uint8Array, ignore: Uint8Array | undefined, i: number, other: number): boolean {
   return data[i] === other && (ignore === undefined || ignore[i] === 0)
@@ -91,7 +104,9 @@ export function removeSmallDomains(mask: BinaryMask, minArea: number): MinimumAr
   if (!(minArea > 1) || analysed === 0) return { mask: result, reassignedPixels: 0, reassignedFraction: 0 }
 
   // Count the final difference: an up speck flipped in step 1 and absorbed back into up in step 2 is not reassigned.
-  const before = Uint8Array.from(data)
+  if (beforeScratch.length < data.length) beforeScratch = new Uint8Array(data.length)
+  const before = beforeScratch
+  before.set(data)
   flipSmall(data, width, height, 1, 8, minArea, ignore)
   flipSmall(data, width, height, 0, 4, minArea, ignore)
   let reassignedPixels = 0

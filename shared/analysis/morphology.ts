@@ -20,20 +20,33 @@ import type { BinaryMask, Connectivity } from './types'
 
 /**
  * Horizontal pass: out[x] = 1 when the count of up pixels in the clamped window [x−r, x+r] reaches `need`
- * (need = 2r+1 → erosion, need = 1 → dilation).
+ * (need = 2r+1 → erosion, need = 1 → dilation). Clamping is only needed within r of the row ends.
  */
 function rowPass(src: Uint8Array, dst: Uint8Array, width: number, height: number, r: number, need: number): void {
   const last = width - 1
+  // Window positions whose outgoing (x − r) and incoming (x + r + 1) pixels both lie inside the row.
+  const midStart = Math.min(r, width)
+  const midEnd = Math.max(midStart, last - r)
   for (let y = 0; y < height; y++) {
     const row = y * width
     let sum = 0
     for (let k = -r; k <= r; k++) sum += src[row + (k < 0 ? 0 : k > last ? last : k)] !== 0 ? 1 : 0
-    for (let x = 0; x < width; x++) {
+    let x = 0
+    for (; x < midStart; x++) {
+      dst[row + x] = sum >= need ? 1 : 0
+      const inc = x + r + 1
+      sum -= src[row] !== 0 ? 1 : 0
+      sum += src[row + (inc > last ? last : inc)] !== 0 ? 1 : 0
+    }
+    for (let i = row + x, end = row + midEnd; i < end; i++) {
+      dst[i] = sum >= need ? 1 : 0
+      sum += (src[i + r + 1] !== 0 ? 1 : 0) - (src[i - r] !== 0 ? 1 : 0)
+    }
+    for (x = midEnd; x < width; x++) {
       dst[row + x] = sum >= need ? 1 : 0
       const out = x - r
-      const inc = x + r + 1
       sum -= src[row + (out < 0 ? 0 : out)] !== 0 ? 1 : 0
-      sum += src[row + (inc > last ? last : inc)] !== 0 ? 1 : 0
+      sum += src[row + last] !== 0 ? 1 : 0
     }
   }
 }
@@ -49,34 +62,59 @@ function columnPass(
   colSum: Int32Array,
 ): void {
   const last = height - 1
-  colSum.fill(0)
+  colSum.fill(0, 0, width)
   for (let k = -r; k <= r; k++) {
     const row = (k < 0 ? 0 : k > last ? last : k) * width
     for (let x = 0; x < width; x++) colSum[x] += src[row + x]
   }
   for (let y = 0; y < height; y++) {
     const row = y * width
-    for (let x = 0; x < width; x++) dst[row + x] = colSum[x] >= need ? 1 : 0
     const outRow = (y - r < 0 ? 0 : y - r) * width
     const inRow = (y + r + 1 > last ? last : y + r + 1) * width
-    for (let x = 0; x < width; x++) colSum[x] += src[inRow + x] - src[outRow + x]
+    for (let x = 0; x < width; x++) {
+      const sum = colSum[x]
+      dst[row + x] = sum >= need ? 1 : 0
+      colSum[x] = sum + src[inRow + x] - src[outRow + x]
+    }
   }
 }
 
-/** Square-SE erosion (need = side) or dilation (need = 1) via the separable passes. */
+/** Working buffers of the separable passes, kept for the largest image seen (results never alias them). */
+let rowScratch = new Uint8Array(0)
+let middleScratch = new Uint8Array(0)
+let columnSums = new Int32Array(0)
+
+/** Square-SE erosion (need = side) or dilation (need = 1) of `src` into `out` via the separable passes. */
+function squareFilterInto(src: Uint8Array, out: Uint8Array, width: number, height: number, radius: number, erode: boolean): void {
+  const r = Math.max(0, Math.floor(radius))
+  // Empty image or r = 0 (1×1 SE, identity): a 0/1 copy.
+  if (width === 0 || height === 0 || r === 0) {
+    for (let i = 0; i < width * height; i++) out[i] = src[i] !== 0 ? 1 : 0
+    return
+  }
+  const n = width * height
+  if (rowScratch.length < n) rowScratch = new Uint8Array(n)
+  if (columnSums.length < width) columnSums = new Int32Array(width)
+  const need = erode ? 2 * r + 1 : 1
+  rowPass(src, rowScratch, width, height, r, need)
+  columnPass(rowScratch, out, width, height, r, need, columnSums)
+}
+
 function squareFilter(mask: BinaryMask, radius: number, erode: boolean): BinaryMask {
   const { width, height } = mask
-  const r = Math.max(0, Math.floor(radius))
   const out = new Uint8Array(width * height)
-  // Empty image or r = 0 (1×1 SE, identity): return a 0/1 copy.
-  if (width === 0 || height === 0 || r === 0) {
-    for (let i = 0; i < out.length; i++) out[i] = mask.data[i] !== 0 ? 1 : 0
-    return withIgnore(mask, out)
-  }
-  const need = erode ? 2 * r + 1 : 1
-  const tmp = new Uint8Array(width * height)
-  rowPass(mask.data, tmp, width, height, r, need)
-  columnPass(tmp, out, width, height, r, need, new Int32Array(width))
+  squareFilterInto(mask.data, out, width, height, radius, erode)
+  return withIgnore(mask, out)
+}
+
+/** Two square filters in a row (opening or closing), the intermediate map kept in a reused buffer. */
+function squareFilterPair(mask: BinaryMask, radius: number, erodeFirst: boolean): BinaryMask {
+  const { width, height } = mask
+  const n = width * height
+  if (middleScratch.length < n) middleScratch = new Uint8Array(n)
+  const out = new Uint8Array(n)
+  squareFilterInto(mask.data, middleScratch, width, height, radius, erodeFirst)
+  squareFilterInto(middleScratch, out, width, height, radius, !erodeFirst)
   return withIgnore(mask, out)
 }
 
@@ -101,12 +139,12 @@ export function dilateMask(mask: BinaryMask, radius = 1): BinaryMask {
 
 /** Opening (erosion then dilation): removes up specks and thin up bridges narrower than the SE. */
 export function openMask(mask: BinaryMask, radius = 1): BinaryMask {
-  return dilateMask(erodeMask(mask, radius), radius)
+  return squareFilterPair(mask, radius, true)
 }
 
 /** Closing (dilation then erosion): fills down holes and gaps narrower than the SE; equals NOT open(NOT mask). */
 export function closeMask(mask: BinaryMask, radius = 1): BinaryMask {
-  return erodeMask(dilateMask(mask, radius), radius)
+  return squareFilterPair(mask, radius, false)
 }
 
 /**

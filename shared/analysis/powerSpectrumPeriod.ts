@@ -145,7 +145,9 @@ function preparePadded(
   const useWindow = options.window !== false
   const wx = useWindow ? hann(width) : new Float64Array(width).fill(1)
   const wy = useWindow ? hann(height) : new Float64Array(height).fill(1)
-  const out = new Float64Array(wp * hp)
+  const out = spectrumScratch(wp * hp, 'padded')
+  // Padding and ignored pixels stay 0.
+  out.fill(0)
   let energy = 0
   for (let y = 0; y < height; y++) {
     const row = y * width
@@ -189,12 +191,50 @@ function halfPowerSpectrum(image: SpectrumInput, options: PowerSpectrumOptions):
   if (width * height === 0) return { geometry, ok: false }
   const padded = preparePadded(image, options, wp, hp)
   if (padded === null) return { geometry, ok: false }
-  const half = realFft2dHalf(padded, wp, hp)
-  const power = new Float64Array(half.re.length)
+  const halfSize = (wp === 1 ? 1 : wp / 2 + 1) * hp
+  const half = realFft2dHalf(padded, wp, hp, { re: spectrumScratch(halfSize, 're'), im: spectrumScratch(halfSize, 'im') })
+  const power = spectrumScratch(half.re.length, 'power')
   for (let i = 0; i < power.length; i++) power[i] = half.re[i] * half.re[i] + half.im[i] * half.im[i]
   geometry.power = power
   geometry.halfWidth = half.halfWidth
   return { geometry, ok: true }
+}
+
+/** Working arrays of the spectrum (padded image, half spectrum, power), kept for the largest size seen. */
+const scratchArrays = new Map<'padded' | 're' | 'im' | 'power', Float64Array>()
+
+/** A view of `length` values of a kept array; its contents are whatever the last call left. */
+function spectrumScratch(length: number, name: 'padded' | 're' | 'im' | 'power'): Float64Array {
+  let array = scratchArrays.get(name)
+  if (array === undefined || array.length < length) {
+    array = new Float64Array(length)
+    scratchArrays.set(name, array)
+  }
+  return array.subarray(0, length)
+}
+
+/** Shell index of every half-plane bin for the last geometry seen (it is the same for every frame of a stack). */
+let shellTable: { key: string; table: Int32Array } | null = null
+
+/**
+ * round(|q|/Δq) per bin of the half plane: the squared radial coordinate in shell units is separable,
+ * (l/(Wp·Δq))² + (k/(Hp·aspect·Δq))².
+ */
+function shellIndexTable(g: HalfPower): Int32Array {
+  const { halfWidth, wp, hp, aspect, shellWidth } = g
+  const key = `${halfWidth},${wp},${hp},${aspect},${shellWidth}`
+  if (shellTable !== null && shellTable.key === key) return shellTable.table
+  const table = new Int32Array(halfWidth * hp)
+  const colTerm = new Float64Array(halfWidth)
+  for (let l = 0; l < halfWidth; l++) colTerm[l] = (l / (wp * shellWidth)) ** 2
+  for (let k = 0; k < hp; k++) {
+    const ks = k <= hp / 2 ? k : k - hp
+    const rowTerm = (ks / (hp * aspect * shellWidth)) ** 2
+    const row = k * halfWidth
+    for (let l = 0; l < halfWidth; l++) table[row + l] = Math.round(Math.sqrt(colTerm[l] + rowTerm))
+  }
+  shellTable = { key, table }
+  return table
 }
 
 /** Shell average of the half-plane power (columns 1..Wp/2−1 also stand for their Hermitian mirror). */
@@ -204,15 +244,11 @@ function shellAverage(g: HalfPower): RadialSpectrum {
   const shells = Math.floor(Math.sqrt(0.25 + qyMax * qyMax) / shellWidth + 0.5) + 1
   const sum = new Float64Array(shells)
   const counts = new Uint32Array(shells)
-  // Squared radial coordinate in shell units, separable: (l/(Wp·Δq))² + (k/(Hp·aspect·Δq))².
-  const colTerm = new Float64Array(halfWidth)
-  for (let l = 0; l < halfWidth; l++) colTerm[l] = (l / (wp * shellWidth)) ** 2
+  const shellOf = shellIndexTable(g)
   for (let k = 0; k < hp; k++) {
-    const ks = k <= hp / 2 ? k : k - hp
-    const rowTerm = (ks / (hp * aspect * shellWidth)) ** 2
     const row = k * halfWidth
     for (let l = 0; l < halfWidth; l++) {
-      const shell = Math.round(Math.sqrt(colTerm[l] + rowTerm))
+      const shell = shellOf[row + l]
       const weight = l === 0 || 2 * l === wp ? 1 : 2
       sum[shell] += weight * power[row + l]
       counts[shell] += weight

@@ -85,21 +85,15 @@ function wrapHalfTurn(deg: number): number {
   return a
 }
 
-/**
- * Structure-tensor orientation of a stripe pattern (METHODS §3.3).
- * @example stripeOrientation(stripesAt30deg).waveVectorAngleDeg // ≈ 30
- */
-export function stripeOrientation(
-  image: GrayImage | FloatImage,
-  options: StripeOrientationOptions = {},
-): StripeOrientationResult {
-  const { width, height } = image
-  const none: StripeOrientationResult = { waveVectorAngleDeg: null, wallAngleDeg: null, orderParameter: 0 }
-  // Degenerate: below 3 px in a direction there is no usable gradient.
-  if (width < 3 || height < 3) return none
-  const sigmaD = options.sigmaDerivative ?? 1
-  const aspect = options.pixelAspect !== undefined && options.pixelAspect > 0 ? options.pixelAspect : 1
-  const smooth = gaussianBlur(image, sigmaD).data
+/** Global sums of the structure tensor: Σ(Jxx − Jyy), Σ2Jxy and Σ(Jxx + Jyy). */
+interface TensorSums {
+  sumRe: number
+  sumIm: number
+  trace: number
+}
+
+/** Per-pixel tensor components Jxx = gx², Jyy = gy², Jxy = gx·gy (gy divided by the pixel aspect), as float32 maps. */
+function tensorMaps(smooth: Float32Array, width: number, height: number, aspect: number): { jxx: Float32Array; jyy: Float32Array; jxy: Float32Array } {
   const n = width * height
   const jxx = new Float32Array(n)
   const jyy = new Float32Array(n)
@@ -114,9 +108,11 @@ export function stripeOrientation(
     jyy[i] = dy * dy
     jxy[i] = gx[i] * dy
   }
+  return { jxx, jyy, jxy }
+}
 
-  // Global sums inside a frame of ceil(3σ_d) px, clamped so that at least the central pixel stays.
-  const frame = Math.min(Math.ceil(3 * sigmaD), (width - 1) >> 1, (height - 1) >> 1)
+/** Tensor sums over the pixels at least `frame` px from the border, in raster order. */
+function sumsOfMaps(jxx: Float32Array, jyy: Float32Array, jxy: Float32Array, width: number, height: number, frame: number): TensorSums {
   let sumRe = 0
   let sumIm = 0
   let trace = 0
@@ -129,8 +125,90 @@ export function stripeOrientation(
       trace += jxx[i] + jyy[i]
     }
   }
+  return { sumRe, sumIm, trace }
+}
+
+/**
+ * The same sums without the maps: derivatives and products computed per pixel of the summed region only, rounded to
+ * float32 where the maps would store them, so the result equals sumsOfMaps(tensorMaps(…)) exactly.
+ */
+function tensorSums(smooth: Float32Array, width: number, height: number, aspect: number, frame: number): TensorSums {
+  const f = Math.fround
+  const lastX = width - 1
+  const lastY = height - 1
+  let sumRe = 0
+  let sumIm = 0
+  let trace = 0
+  for (let y = frame; y < height - frame; y++) {
+    const row = y * width
+    const m2 = (y > 1 ? y - 2 : 0) * width
+    const m1 = (y > 0 ? y - 1 : 0) * width
+    const p1 = (y < lastY ? y + 1 : lastY) * width
+    const p2 = (y < lastY - 1 ? y + 2 : lastY) * width
+    let x = frame
+    if (frame >= 2) {
+      // Two or more pixels from every border: no clamping needed.
+      const end = row + width - frame
+      for (let i = row + frame; i < end; i++) {
+        const gx = f((-smooth[i + 2] + 8 * smooth[i + 1] - 8 * smooth[i - 1] + smooth[i - 2]) / 12)
+        const c = i - row
+        const gy = f((-smooth[p2 + c] + 8 * smooth[p1 + c] - 8 * smooth[m1 + c] + smooth[m2 + c]) / 12)
+        const dy = gy / aspect
+        const jxx = f(gx * gx)
+        const jyy = f(dy * dy)
+        const jxy = f(gx * dy)
+        sumRe += jxx - jyy
+        sumIm += 2 * jxy
+        trace += jxx + jyy
+      }
+      x = width - frame
+    }
+    for (; x < width - frame; x++) {
+      const xm2 = smooth[row + (x > 1 ? x - 2 : 0)]
+      const xm1 = smooth[row + (x > 0 ? x - 1 : 0)]
+      const xp1 = smooth[row + (x < lastX ? x + 1 : lastX)]
+      const xp2 = smooth[row + (x < lastX - 1 ? x + 2 : lastX)]
+      const gx = f((-xp2 + 8 * xp1 - 8 * xm1 + xm2) / 12)
+      const gy = f((-smooth[p2 + x] + 8 * smooth[p1 + x] - 8 * smooth[m1 + x] + smooth[m2 + x]) / 12)
+      const dy = gy / aspect
+      const jxx = f(gx * gx)
+      const jyy = f(dy * dy)
+      const jxy = f(gx * dy)
+      sumRe += jxx - jyy
+      sumIm += 2 * jxy
+      trace += jxx + jyy
+    }
+  }
+  return { sumRe, sumIm, trace }
+}
+
+/** The σ_d-smoothed image, kept for the largest image seen (only the sums and maps leave stripeOrientation). */
+let smoothScratch = new Float32Array(0)
+
+/**
+ * Structure-tensor orientation of a stripe pattern (METHODS §3.3).
+ * @example stripeOrientation(stripesAt30deg).waveVectorAngleDeg // ≈ 30
+ */
+export function stripeOrientation(
+  image: GrayImage | FloatImage,
+  options: StripeOrientationOptions = {},
+): StripeOrientationResult {
+  const { width, height } = image
+  const none: StripeOrientationResult = { waveVectorAngleDeg: null, wallAngleDeg: null, orderParameter: 0 }
+  // Degenerate: below 3 px in a direction there is no usable gradient.
+  if (width < 3 || height < 3) return none
+  const sigmaD = options.sigmaDerivative ?? 1
+  const aspect = options.pixelAspect !== undefined && options.pixelAspect > 0 ? options.pixelAspect : 1
+  if (smoothScratch.length < width * height) smoothScratch = new Float32Array(width * height)
+  const smooth = gaussianBlur(image, sigmaD, undefined, smoothScratch).data
+  // Global sums inside a frame of ceil(3σ_d) px, clamped so that at least the central pixel stays.
+  const frame = Math.min(Math.ceil(3 * sigmaD), (width - 1) >> 1, (height - 1) >> 1)
   const result: StripeOrientationResult = { ...none }
+  let sums: TensorSums
   if (options.maps === true) {
+    const n = width * height
+    const { jxx, jyy, jxy } = tensorMaps(smooth, width, height, aspect)
+    sums = sumsOfMaps(jxx, jyy, jxy, width, height, frame)
     const sigmaI = options.sigmaIntegration ?? 4
     const sxx = gaussianBlur({ width, height, data: jxx }, sigmaI).data
     const syy = gaussianBlur({ width, height, data: jyy }, sigmaI).data
@@ -145,7 +223,10 @@ export function stripeOrientation(
     }
     result.orientationMapDeg = orientation
     result.coherenceMap = coherence
+  } else {
+    sums = tensorSums(smooth, width, height, aspect, frame)
   }
+  const { sumRe, sumIm, trace } = sums
   // Degenerate: a constant (or numerically flat) image has no gradient, hence no orientation.
   if (!(trace > 0)) return result
   const magnitude = Math.hypot(sumRe, sumIm)

@@ -45,7 +45,8 @@ export interface WallRoughnessResult {
   warning?: string
 }
 
-const THEORY = {
+/** The theoretical roughness exponent of an elastic line in a random-bond medium, with its source. */
+export const ROUGHNESS_THEORY: { zeta: number; source: string } = {
   zeta: 2 / 3,
   source:
     'Elastic line in a random-bond medium: Huse & Henley 1985, Phys. Rev. Lett. 54:2708; exact 2/3 via Kardar, Parisi & ' +
@@ -127,7 +128,7 @@ export function wallRoughness(u: Float64Array, options: WallRoughnessOptions = {
     amplitude: null,
     fitRange,
     fitPoints: 0,
-    theory: THEORY,
+    theory: ROUGHNESS_THEORY,
     warning,
   })
   // Degenerate: a profile under 16 samples leaves fewer than 2 lags in [2, L/8]: no exponent.
@@ -156,7 +157,7 @@ export function wallRoughness(u: Float64Array, options: WallRoughnessOptions = {
     amplitude: Math.exp(fit.a),
     fitRange,
     fitPoints: x.length,
-    theory: THEORY,
+    theory: ROUGHNESS_THEORY,
     ...(x.length < 5 ? { warning: `Only ${x.length} lags in the fit range: the exponent is rough.` } : {}),
   }
 }

@@ -121,7 +121,10 @@ function checkFrameSize(width: number, height: number, fileName: string, limits:
 
 /** A whole-file ArrayBuffer for decoders that take one (copied only when `bytes` is a view into a larger buffer). */
 function ownBuffer(bytes: Uint8Array): ArrayBuffer {
-  const whole = bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength && bytes.buffer instanceof ArrayBuffer
+  // A SharedArrayBuffer (the analysis pool shares one file with every worker) is read in place: geotiff only reads it,
+  // and copying it would give every worker thread its own copy of a whole stack.
+  const shared = typeof SharedArrayBuffer !== 'undefined' && bytes.buffer instanceof SharedArrayBuffer
+  const whole = bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength && (bytes.buffer instanceof ArrayBuffer || shared)
   return whole ? (bytes.buffer as ArrayBuffer) : (bytes.slice().buffer as ArrayBuffer)
 }
 
