@@ -22,7 +22,8 @@ export const DEMO_PROJECTS = [
     description:
       'Ta(5)/CoFeB(1.1)/MgO(2)/Ta(3) films with perpendicular anisotropy, sputtered in run KB-24 and annealed for 60 min ' +
       'in vacuum under 600 mT along the film normal. Question: how do anneal temperatures of 200–350 °C change the ' +
-      'remanent labyrinth period, the wall density and the coercive field?',
+      'remanent labyrinth period, the wall density and the coercive field, and how fast the walls creep (bubble ' +
+      'expansion under field pulses on KB24-A300)?',
     samples: [200, 250, 300, 350].map((t) => ({
       name: `KB24-A${t}`,
       material: 'Ta/CoFeB/MgO (perpendicular)',
@@ -72,6 +73,16 @@ export const DEMO_IMAGES: { file: string; frames?: string; sample: string; techn
     technique: 'kerr-polar',
     notes: 'Field sweep +20 → −20 → +20 mT along the film normal, 1 mT steps, Hall probe at the sample.',
     acquiredAt: '2026-11-12T14:05:00Z',
+  },
+  {
+    file: 'KB24-A300_bubble-growth.tif',
+    frames: 'KB24-A300_bubble-growth.csv',
+    sample: 'KB24-A300',
+    technique: 'kerr-polar',
+    notes:
+      'Bubble expansion: saturate at −60 mT, nucleate with a 12 mT / 2 µs pulse, then one image after each pulse of ' +
+      '3 → 9 mT (5 ms → 4 µs, coil driver with 50 ns rise time); images taken at zero field.',
+    acquiredAt: '2026-11-13T10:15:00Z',
   },
   {
     file: 'GF-7_temperature-ramp.tif',

@@ -12,6 +12,8 @@
  *   Domains appear where U is extreme and grow with the field (nucleation and wall motion, return-point memory).
  * - Temperature ramp: fixed stripes whose Kerr contrast is c0·(1 − T/Tc)^β below Tc and 0 above (mean-field-like
  *   power law of the order parameter; the contrast is taken ∝ Ms, the polar Kerr signal ∝ Mz [P]).
+ * - Bubble growth (wall motion): a reversed bubble expanding pulse by pulse with the creep-law velocity of each pulse
+ *   field, its wall a self-affine ring of exponent ζ (renderMotionSeries).
  * Rendering (renderKerrFrame): I = I0·(1 + g(x,y))·(1 + (c/2)·(G_σ * d)) + bias, d = ±1, G_σ a Gaussian blur of σ px
  * (optical resolution), g a gentle linear illumination gradient; shot noise with 2 e⁻ per ADU (sd √(I/2) ADU, normal
  * approximation of Poisson) and read noise; rounded and clipped to 16 bits [P].
@@ -274,6 +276,162 @@ export function renderTemperatureRamp(options: TemperatureRampOptions): Temperat
   return { frames, temperaturesK, contrast }
 }
 
+/** The creep law ln v = ln v₀ − C·H^(−μ) of a constructed motion series (v in m/s, H as μ0H in mT). */
+export interface CreepLawParameters {
+  /** C, mT^μ. */
+  slope: number
+  /** ln(v₀ / (m/s)). */
+  lnV0: number
+  mu: number
+}
+
+export interface MotionSeriesOptions {
+  /** Image side in px (power of two); default 256. */
+  size?: number
+  seed: number
+  /** Pixel size in nm (converts the constructed velocities to px); default 200. */
+  pixelSizeNm?: number
+  /** Radius of the nucleated bubble in frame 0, px; default 24. */
+  initialRadiusPx?: number
+  /** Pulse field per frame row, μ0H in mT; row 0 is the nucleation pulse (not a motion step). */
+  pulseFieldsMT?: number[]
+  /** Pulse duration per frame row, s. */
+  pulseDurationsS?: number[]
+  /** Creep law giving each step's velocity; default C = 40 mT^¼, ln v₀ = 22.4, μ = ¼. */
+  creep?: CreepLawParameters
+  /** Self-affine wall: exponent ζ and the rms of the wall's radial deviation in the last frame (px); rms 0 = smooth. */
+  roughness?: { zeta: number; rmsPx: number }
+  /** Bubble centre in frame 0, px; default the image centre (+0.3, −0.2). */
+  centre?: { x: number; y: number }
+  /** Stage drift added per frame, px (the whole scene moves; the camera's illumination does not). */
+  driftPx?: { x: number; y: number }
+  /** Dust on the film (moves with it): Gaussian dark spots (σ 1.5 px) of relative depth up to `depth`. */
+  dust?: { count: number; depth: number }
+  contrast?: number
+}
+
+export interface MotionSeries {
+  frames: GrayImage[]
+  pulseFieldsMT: number[]
+  pulseDurationsS: number[]
+  /** Mean (construction) radius R_k of the bubble per frame, px. */
+  radiiPx: number[]
+  /** Constructed radial velocity ΔR/Δt of each step k − 1 → k (k = 1 …), m/s: the creep law at that step's field. */
+  velocitiesMPerS: number[]
+  /** ΔR of each step, px. */
+  displacementsPx: number[]
+  /** Wall length of the continuous constructed wall over 2πR, per frame (1 for a smooth bubble). */
+  wallLengthExcess: number[]
+}
+
+/** Creep velocity exp(ln v₀ − C·H^(−μ)) in m/s. */
+export function creepVelocity(fieldMT: number, law: CreepLawParameters): number {
+  return Math.exp(law.lnV0 - law.slope * Math.pow(Math.abs(fieldMT), -law.mu))
+}
+
+/** Periodic self-affine deviation δ(θ) on `samples` angles: modes n ≥ 3 with amplitude ∝ n^(−(½ + ζ)), unit rms. */
+function selfAffineRing(samples: number, zeta: number, maxMode: number, seed: number): Float64Array {
+  const random = createRandom(seed)
+  const out = new Float64Array(samples)
+  for (let n = 3; n <= maxMode; n++) {
+    const amplitude = Math.pow(n, -(0.5 + zeta))
+    const phase = 2 * Math.PI * random()
+    for (let k = 0; k < samples; k++) out[k] += amplitude * Math.cos((2 * Math.PI * n * k) / samples + phase)
+  }
+  let sum = 0
+  for (let k = 0; k < samples; k++) sum += out[k] * out[k]
+  const rms = Math.sqrt(sum / samples)
+  if (rms > 0) for (let k = 0; k < samples; k++) out[k] /= rms
+  return out
+}
+
+/**
+ * A pulsed-field bubble-expansion series (polar Kerr, perpendicular film): a reversed bubble nucleated by the pulse of
+ * row 0 grows by ΔR_k = v(H_k)·Δt_k in the pulse of row k, v from a creep law (constructed ground truth). The wall is
+ * r(θ) = R_k + s_k·δ(θ) with δ a self-affine ring (modes n ≥ 3, ∝ n^(−(½ + ζ))) scaled by s_k = rms·(R_k/R_last)^ζ,
+ * so that B(r) in px of arc is the same in every frame. The domain map is the up-area fraction of each pixel (4 × 4
+ * sub-samples, the optics integrate over the pixel), rendered with renderKerrFrame (blur, gradient, noise).
+ */
+export function renderMotionSeries(options: MotionSeriesOptions): MotionSeries {
+  const size = options.size ?? 256
+  const pixelSizeNm = options.pixelSizeNm ?? 200
+  const law = options.creep ?? { slope: 40, lnV0: 22.4, mu: 0.25 }
+  const pulseFieldsMT = options.pulseFieldsMT ?? [12, 3, 3.5, 4, 5, 6, 7.5, 9]
+  const pulseDurationsS = options.pulseDurationsS ?? [2e-6, 5000e-6, 2000e-6, 800e-6, 150e-6, 50e-6, 12e-6, 4e-6]
+  if (pulseFieldsMT.length !== pulseDurationsS.length) throw new RangeError('renderMotionSeries: one field and one duration per frame row')
+  const radiiPx = [options.initialRadiusPx ?? 24]
+  const velocitiesMPerS: number[] = []
+  const displacementsPx: number[] = []
+  for (let k = 1; k < pulseFieldsMT.length; k++) {
+    const v = creepVelocity(pulseFieldsMT[k], law)
+    const step = (v * pulseDurationsS[k]) / (pixelSizeNm * 1e-9)
+    velocitiesMPerS.push(v)
+    displacementsPx.push(step)
+    radiiPx.push(radiiPx[k - 1] + step)
+  }
+  const lastRadius = radiiPx[radiiPx.length - 1]
+  const ringSamples = 4096
+  const zeta = options.roughness?.zeta ?? 2 / 3
+  const rms = options.roughness?.rmsPx ?? 0
+  const ring = rms > 0 ? selfAffineRing(ringSamples, zeta, Math.round(Math.PI * lastRadius), options.seed + 500) : new Float64Array(ringSamples)
+  const centre = options.centre ?? { x: size / 2 + 0.3, y: size / 2 - 0.2 }
+  const drift = options.driftPx ?? { x: 0, y: 0 }
+  const sub = 4
+  const dustRandom = createRandom(options.seed + 700)
+  const dust = Array.from({ length: options.dust?.count ?? 0 }, () => ({
+    x: dustRandom() * size,
+    y: dustRandom() * size,
+    depth: (options.dust?.depth ?? 0) * (0.4 + 0.6 * dustRandom()),
+  }))
+  const frames: GrayImage[] = []
+  const wallLengthExcess: number[] = []
+  radiiPx.forEach((radius, k) => {
+    const scale = rms * Math.pow(radius / lastRadius, zeta)
+    const wall = (theta: number): number => {
+      const t = ((theta / (2 * Math.PI)) * ringSamples + ringSamples) % ringSamples
+      const i = Math.floor(t)
+      const f = t - i
+      return radius + scale * (ring[i % ringSamples] * (1 - f) + ring[(i + 1) % ringSamples] * f)
+    }
+    let length = 0
+    for (let j = 0; j < ringSamples; j++) {
+      const a = (2 * Math.PI * j) / ringSamples
+      const b = (2 * Math.PI * (j + 1)) / ringSamples
+      length += Math.hypot(wall(b) * Math.cos(b) - wall(a) * Math.cos(a), wall(b) * Math.sin(b) - wall(a) * Math.sin(a))
+    }
+    wallLengthExcess.push(length / (2 * Math.PI * radius))
+    const cx = centre.x + k * drift.x
+    const cy = centre.y + k * drift.y
+    const domains = new Float32Array(size * size)
+    for (let y = 0; y < size; y++) {
+      for (let x = 0; x < size; x++) {
+        let up = 0
+        for (let sy = 0; sy < sub; sy++) {
+          for (let sx = 0; sx < sub; sx++) {
+            const px = x - 0.5 + (sx + 0.5) / sub - cx
+            const py = y - 0.5 + (sy + 0.5) / sub - cy
+            if (Math.hypot(px, py) <= wall(Math.atan2(py, px))) up++
+          }
+        }
+        domains[y * size + x] = (2 * up) / (sub * sub) - 1
+      }
+    }
+    const frame = renderKerrFrame(domains, size, options.contrast ?? 0.1, options.seed + 1000 + k)
+    for (const spot of dust) {
+      const sx = spot.x + k * drift.x
+      const sy = spot.y + k * drift.y
+      for (let y = Math.max(0, Math.floor(sy - 5)); y <= Math.min(size - 1, Math.ceil(sy + 5)); y++) {
+        for (let x = Math.max(0, Math.floor(sx - 5)); x <= Math.min(size - 1, Math.ceil(sx + 5)); x++) {
+          const i = y * size + x
+          frame.data[i] = Math.round(frame.data[i] * (1 - spot.depth * Math.exp(-((x - sx) ** 2 + (y - sy) ** 2) / (2 * 1.5 ** 2))))
+        }
+      }
+    }
+    frames.push(frame)
+  })
+  return { frames, pulseFieldsMT, pulseDurationsS, radiiPx, velocitiesMPerS, displacementsPx, wallLengthExcess }
+}
+
 /** Every file that `npm run samples` writes into samples/ (besides manifest.json). */
 export const SAMPLE_FILES = [
   'KB24-A200_remanent.tif',
@@ -284,6 +442,8 @@ export const SAMPLE_FILES = [
   'KB24-A300_field-sweep.csv',
   'GF-7_temperature-ramp.tif',
   'GF-7_temperature-ramp.csv',
+  'KB24-A300_bubble-growth.tif',
+  'KB24-A300_bubble-growth.csv',
 ] as const
 
 export type SampleName = (typeof SAMPLE_FILES)[number]

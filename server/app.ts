@@ -46,6 +46,8 @@ import { createExportService } from './services/exportService'
 import { registerExportRoutes } from './routes/exports'
 import { registerLabMaterialRoutes } from './routes/labMaterials'
 import { registerSampleMeasurementRoutes } from './routes/sampleMeasurements'
+import { registerMotionRoutes } from './routes/motion'
+import { createMotionService } from './services/motionService'
 
 export interface AppDeps {
   config: AppConfig
@@ -113,6 +115,8 @@ export function createApp(deps: AppDeps) {
   registerExportRoutes(api, createExportService({ ...deps, annotations }))
   registerLabMaterialRoutes(api)
   registerSampleMeasurementRoutes(api, deps.sequelize)
+  const motion = createMotionService({ ...deps, images })
+  registerMotionRoutes(api, motion)
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)
   api.router.get('/openapi.json', (_req, res) => res.json(document))
@@ -125,7 +129,11 @@ export function createApp(deps: AppDeps) {
   }
 
   app.use(errorHandler)
-  return { app, apiRouter: api.router, openApi: document, close: () => sessions.close() }
+  const close = async () => {
+    await sessions.close()
+    await motion.close()
+  }
+  return { app, apiRouter: api.router, openApi: document, close }
 }
 
 /** Turns errors into `{ error: { code, message } }`. Database outages become 503 with a clear message. */

@@ -20,6 +20,9 @@ declare module 'vue-router' {
 
 export type RouteName =
   | 'sign-in'
+  | 'accept-invitation'
+  | 'reset-password'
+  | 'unlock-account'
   | 'overview'
   | 'projects'
   | 'project-detail'
@@ -29,11 +32,15 @@ export type RouteName =
   | 'images'
   | 'image-upload'
   | 'image-detail'
+  | 'image-motion'
   | 'workspace'
   | 'stack-run'
   | 'queue'
   | 'compare'
   | 'review'
+  | 'analysis-review'
+  | 'sample-report'
+  | 'api-tokens'
   | 'lab-admin'
   | 'mailbox'
   | 'forbidden'
@@ -66,6 +73,13 @@ const shellRoutes: NamedRoute[] = [
     props: (route) => ({ sampleId: Number(route.params.sampleId) }),
     meta: { title: 'Sample' },
   },
+  {
+    path: 'samples/:sampleId(\\d+)/report',
+    name: 'sample-report',
+    component: () => import('@/views/SampleReportView.vue'),
+    props: (route) => ({ sampleId: Number(route.params.sampleId), includeDrafts: route.query.drafts === 'true' }),
+    meta: { title: 'Sample report', requires: 'export.tables' },
+  },
   { path: 'images', name: 'images', component: () => import('@/views/ImagesView.vue'), meta: { title: 'Images' } },
   {
     path: 'images/upload',
@@ -79,6 +93,13 @@ const shellRoutes: NamedRoute[] = [
     component: () => import('@/views/ImageDetailView.vue'),
     props: (route) => ({ imageId: Number(route.params.imageId) }),
     meta: { title: 'Image' },
+  },
+  {
+    path: 'images/:imageId(\\d+)/motion',
+    name: 'image-motion',
+    component: () => import('@/views/MotionView.vue'),
+    props: (route) => ({ imageId: Number(route.params.imageId) }),
+    meta: { title: 'Wall motion' },
   },
   {
     path: 'frames/:frameId(\\d+)/workspace',
@@ -108,11 +129,19 @@ const shellRoutes: NamedRoute[] = [
     meta: { title: 'Review', requires: 'analysis.review' },
   },
   {
+    path: 'analyses/:analysisId(\\d+)',
+    name: 'analysis-review',
+    component: () => import('@/views/AnalysisReviewView.vue'),
+    props: (route) => ({ analysisId: Number(route.params.analysisId) }),
+    meta: { title: 'Analysis review' },
+  },
+  {
     path: 'lab-admin',
     name: 'lab-admin',
     component: () => import('@/views/LabAdminView.vue'),
     meta: { title: 'Lab admin', requires: 'lab.manage' },
   },
+  { path: 'settings/tokens', name: 'api-tokens', component: () => import('@/views/ApiTokensView.vue'), meta: { title: 'API tokens' } },
   { path: 'dev/mailbox', name: 'mailbox', component: () => import('@/views/MailboxView.vue'), meta: { title: 'Mailbox (dev)' } },
   { path: 'forbidden', name: 'forbidden', component: () => import('@/views/ForbiddenView.vue'), meta: { title: 'Not allowed' } },
   { path: ':pathMatch(.*)*', name: 'not-found', component: () => import('@/views/NotFoundView.vue'), meta: { title: 'Not found' } },
@@ -124,6 +153,28 @@ export const routes: RouteRecordRaw[] = [
     name: 'sign-in',
     component: () => import('@/views/SignInView.vue'),
     meta: { title: 'Sign in', public: true },
+  } satisfies NamedRoute,
+  // The links the server e-mails (…?token=…): they work signed out, and signed in as someone else.
+  {
+    path: '/accept-invitation',
+    name: 'accept-invitation',
+    component: () => import('@/views/AcceptInvitationView.vue'),
+    props: (route) => ({ token: typeof route.query.token === 'string' ? route.query.token : '' }),
+    meta: { title: 'Join a lab', public: true },
+  } satisfies NamedRoute,
+  {
+    path: '/reset-password',
+    name: 'reset-password',
+    component: () => import('@/views/ResetPasswordView.vue'),
+    props: (route) => ({ token: typeof route.query.token === 'string' ? route.query.token : '' }),
+    meta: { title: 'Reset password', public: true },
+  } satisfies NamedRoute,
+  {
+    path: '/unlock-account',
+    name: 'unlock-account',
+    component: () => import('@/views/UnlockAccountView.vue'),
+    props: (route) => ({ token: typeof route.query.token === 'string' ? route.query.token : '' }),
+    meta: { title: 'Unlock account', public: true },
   } satisfies NamedRoute,
   { path: '/', component: () => import('@/components/AppShell.vue'), children: shellRoutes },
 ]
