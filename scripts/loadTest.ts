@@ -103,16 +103,20 @@ const frameIds = (await Frame.findAll({ attributes: ['id', 'imageId'], limit: 20
 let connection = 0
 let pick = 0
 const next = () => frameIds[(pick = (pick * 7919 + 13) % frameIds.length)]
+const failures = new Map<string, number>()
+const noteFailure = (route: string) => (status: number) => {
+  if (status >= 300) failures.set(`${route} → ${status}`, (failures.get(`${route} → ${status}`) ?? 0) + 1)
+}
 const instance = autocannon({
   url,
   connections: USERS,
   duration: SECONDS,
   setupClient: (client: { setHeaders(h: Record<string, string>): void }) => client.setHeaders({ cookie: sessions[connection++ % USERS].cookie }),
   requests: [
-    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images?page=${1 + (pick % 80)}&pageSize=25&sort=name&order=asc` }) },
-    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images/${next().imageId}` }) },
-    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/frames/${next().frameId}/analysis` }) },
-    { path: '/api/projects' },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images?page=${1 + (pick % 80)}&pageSize=25&sort=name&order=asc` }), onResponse: noteFailure('GET /api/images') },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/images/${next().imageId}` }), onResponse: noteFailure('GET /api/images/:id') },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: `/api/frames/${next().frameId}/analysis` }), onResponse: noteFailure('GET /api/frames/:id/analysis') },
+    { setupRequest: (req: { path: string }) => ({ ...req, path: '/api/projects' }), onResponse: noteFailure('GET /api/projects') },
   ],
 } as never)
 
@@ -147,6 +151,7 @@ const report = {
   timeouts: result.timeouts,
   non2xx: result.non2xx,
   stackUploads: { started: 5, storedCompletely: complete },
+  failures: Object.fromEntries(failures),
 }
 console.log(JSON.stringify(report, null, 2))
 for (const u of uploaded) if (u.status !== 201) console.log(`[load] an upload answered ${u.status}: ${JSON.stringify(u.body).slice(0, 300)}`)
