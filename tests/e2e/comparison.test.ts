@@ -14,6 +14,7 @@ import { renderLabyrinth } from '../../scripts/sampleImages'
 import type { LabRole } from '../../shared/auth/permissions'
 import { createLabWithRoles, signIn, TEST_PASSWORD } from '../server/testApp'
 import { saveAutoMask, submitAndApprove, uploadImage, type Session } from '../server/analysisFixtures'
+import { linkToken, waitForMail } from '../server/mailbox'
 import { browserAvailable, SCREENSHOT_DIR, startBrowserSession } from './browser'
 
 const SIZE = 128
@@ -161,12 +162,44 @@ describe.skipIf(!browserAvailable)('lab collaboration (browser)', () => {
     await piPage.getByRole('dialog').getByText('Principal investigator', { exact: true }).waitFor()
     await piPage.waitForTimeout(300)
     await shot(piPage, 'lab-admin-invite.png')
-    await piPage.getByRole('dialog').getByLabel('E-mail').fill('new.person@test.example')
+    const invitee = `new.person.${home.lab.id}@test.example`
+    await piPage.getByRole('dialog').getByLabel('E-mail').fill(invitee)
     await piPage.getByRole('dialog').getByText('Reviewer', { exact: true }).click()
     await piPage.getByRole('button', { name: 'Send invitation' }).click()
-    await piPage.getByLabel('Invitations').getByText('new.person@test.example').waitFor()
+    await piPage.getByLabel('Invitations').getByText(invitee).waitFor()
     await piPage.waitForTimeout(300)
     await shot(piPage, 'lab-admin.png')
+
+    // The e-mailed link, opened signed out: the invitee joins as a reviewer and lands signed in.
+    const token = linkToken(await waitForMail(invitee, /Invitation to/), '/accept-invitation')
+    const guest = await session.newPage()
+    await guest.goto(`${session.baseUrl}/accept-invitation?token=${encodeURIComponent(token)}`)
+    await guest.getByText(home.lab.name, { exact: true }).waitFor()
+    await guest.getByLabel('Your name').fill('Nadia Kowalski')
+    await guest.getByLabel('Password', { exact: true }).fill('four unrelated words here')
+    await guest.getByLabel('Password again').fill('four unrelated words here')
+    await shot(guest, 'accept-invitation.png')
+    await guest.getByRole('button', { name: `Join ${home.lab.name}` }).click()
+    await guest.waitForURL(`${session.baseUrl}/`)
+    await guest.getByText('Nadia Kowalski').first().waitFor()
+    // The same link a second time: used.
+    await guest.goto(`${session.baseUrl}/accept-invitation?token=${encodeURIComponent(token)}`)
+    await guest.getByText('This invitation was already used.').waitFor()
+    await shot(guest, 'accept-invitation-used.png')
+
+    // Forgotten password: the sign-in page's link, the request, and the e-mailed link's form.
+    const signedOut = await session.newPage()
+    await signedOut.goto(`${session.baseUrl}/sign-in`)
+    await signedOut.getByRole('link', { name: 'Forgot password?' }).click()
+    await signedOut.getByRole('heading', { name: 'Reset your password' }).waitFor()
+    await signedOut.getByLabel('E-mail').fill(home.people.annotator.email)
+    await signedOut.getByRole('button', { name: 'Send reset link' }).click()
+    await signedOut.getByText('Check your inbox').waitFor()
+    await shot(signedOut, 'reset-password-sent.png')
+    const resetToken = linkToken(await waitForMail(home.people.annotator.email, /Reset your Remanence password/), '/reset-password')
+    await signedOut.goto(`${session.baseUrl}/reset-password?token=${encodeURIComponent(resetToken)}`)
+    await signedOut.getByRole('heading', { name: 'Choose a new password' }).waitFor()
+    await shot(signedOut, 'reset-password-form.png')
 
     await piPage.goto(`${session.baseUrl}/settings/tokens`)
     await piPage.getByLabel('Token name').fill('analysis notebook')

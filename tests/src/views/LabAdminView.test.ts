@@ -1,0 +1,96 @@
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { flushPromises, mount } from '@vue/test-utils'
+import { createMemoryHistory } from 'vue-router'
+import { createPinia, setActivePinia, type Pinia } from 'pinia'
+import ElementPlus from 'element-plus'
+import type { InvitationDto } from '@shared/types/invitation'
+import type { LabMemberDto } from '@shared/types/user'
+import { createAppRouter } from '@/router'
+import LabAdminView from '@/views/LabAdminView.vue'
+import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { alertTexts } from '../domQueries'
+
+let pinia: Pinia
+
+const MEMBERS: LabMemberDto[] = [
+  { userId: 7, name: 'Elena Varga', email: 'elena@x.example', role: 'pi', active: true },
+  { userId: 8, name: 'Priya Raman', email: 'priya@x.example', role: 'annotator', active: true },
+]
+
+function invitation(overrides: Partial<InvitationDto>): InvitationDto {
+  return { id: 1, labId: 1, email: 'new@x.example', role: 'reviewer', invitedBy: { id: 7, name: 'Elena Varga' }, expiresAt: '2999-01-01T00:00:00Z', usedAt: null, revokedAt: null, createdAt: '2026-03-01T10:00:00Z', ...overrides }
+}
+
+async function mountAdmin(patch: () => Response) {
+  const requests = stubFetch({
+    'GET /api/auth/me': () => jsonResponse(200, { id: 7, email: 'elena@x.example', name: 'Elena Varga', memberships: [{ labId: 1, labName: 'Kestrel Lab', role: 'pi' }], csrfToken: 't' }),
+    'GET /api/health': () => jsonResponse(200, { db: 'up', storage: 'up', mail: 'up' }),
+    'GET /api/labs/1/members': () => jsonResponse(200, MEMBERS),
+    'GET /api/labs/1/invitations': () => jsonResponse(200, [invitation({ id: 1 }), invitation({ id: 2, email: 'gone@x.example', usedAt: '2026-03-02T10:00:00Z' })]),
+    'PATCH /api/labs/1/members/7': patch,
+  })
+  const router = createAppRouter(createMemoryHistory())
+  await router.push('/lab-admin')
+  const wrapper = mount(LabAdminView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
+  await flushPromises()
+  return { wrapper, requests }
+}
+
+/** Element Plus puts the confirm box at the end of the body, outside the mounted component. */
+async function confirmBox(buttonText: string): Promise<void> {
+  await vi.waitFor(() => expect(document.querySelector('.el-message-box')).not.toBeNull())
+  const button = [...document.querySelectorAll<HTMLButtonElement>('.el-message-box button')].find((b) => b.textContent?.trim() === buttonText)
+  if (!button) throw new Error(`No "${buttonText}" in the confirm box`)
+  button.click()
+  await flushPromises()
+}
+
+beforeEach(() => {
+  pinia = createPinia()
+  setActivePinia(pinia)
+})
+afterEach(() => {
+  vi.unstubAllGlobals()
+  document.body.innerHTML = ''
+})
+
+describe('LabAdminView', () => {
+  it('When the page opens, then members and only the open invitations are listed, the used one folded away', async () => {
+    const { wrapper } = await mountAdmin(() => jsonResponse(500))
+    const text = wrapper.text()
+    expect(text).toContain('Priya Raman')
+    expect(text).toContain('new@x.example')
+    expect(text).not.toContain('gone@x.example')
+    expect(text).toContain('Show earlier invitations (1)')
+  })
+
+  it('When deactivating the last PI is refused with 409 last-manager, then the server’s message stays on the page', async () => {
+    const message = 'This is the last active administrator or principal investigator of the lab: make someone else one first.'
+    const { wrapper, requests } = await mountAdmin(() => errorResponse(409, 'last-manager', message))
+    await wrapper.get('button[aria-label="Deactivate Elena Varga"]').trigger('click')
+    await confirmBox('Deactivate')
+
+    await vi.waitFor(() => expect(alertTexts(wrapper).join(' ')).toContain(message))
+    expect(alertTexts(wrapper).join(' ')).toContain('Elena Varga was not deactivated')
+    expect(requests.find((r) => r.method === 'PATCH')?.body).toEqual({ active: false })
+    // Still listed as active.
+    expect(wrapper.find('button[aria-label="Deactivate Elena Varga"]').exists()).toBe(true)
+  })
+
+  it('When a deactivation is confirmed and allowed, then the member shows as deactivated with Reactivate', async () => {
+    const { wrapper } = await mountAdmin(() => jsonResponse(200, { ...MEMBERS[0], active: false }))
+    await wrapper.get('button[aria-label="Deactivate Elena Varga"]').trigger('click')
+    await confirmBox('Deactivate')
+    await vi.waitFor(() => expect(wrapper.find('button[aria-label="Reactivate Elena Varga"]').exists()).toBe(true))
+  })
+
+  it('When the invite dialog opens, then every role is offered with what it may do', async () => {
+    const { wrapper } = await mountAdmin(() => jsonResponse(500))
+    await wrapper.findAll('button').find((b) => b.text() === 'Invite someone')!.trigger('click')
+    await flushPromises()
+    const dialog = document.querySelector('.el-dialog')!
+    expect(dialog.textContent).toContain('Principal investigator')
+    expect(dialog.textContent).toContain('Segments the frames assigned to them')
+    expect(dialog.querySelectorAll('input[type="radio"]').length).toBe(5)
+  })
+})
