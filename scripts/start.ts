@@ -6,7 +6,7 @@
 import type { ChildProcess } from 'node:child_process'
 import { fileURLToPath } from 'node:url'
 import { existsSync, readFileSync } from 'node:fs'
-import { loadConfig } from '../server/config'
+import { loadConfig, LOCAL_PORTS } from '../server/config'
 import { createDeps } from '../server/runtime'
 import { migrateToLatest } from '../server/migrator'
 import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
@@ -22,19 +22,19 @@ const env: NodeJS.ProcessEnv = { ...process.env }
 
 async function startLocalServices() {
   if (!process.env.DATABASE_URL) {
-    startedPostgres = !(await portIsOpen(55432))
+    startedPostgres = !(await portIsOpen(LOCAL_PORTS.postgres))
     await run('bash', ['scripts/postgres.sh', 'start'])
   }
   if (!process.env.S3_ENDPOINT) {
-    if (await portIsOpen(4569)) console.log('[s3] something already listens on 4569: using it')
+    if (await portIsOpen(LOCAL_PORTS.s3)) console.log(`[s3] something already listens on ${LOCAL_PORTS.s3}: using it`)
     else children.push(spawnService('s3', tsx, ['scripts/s3Server.ts'], env))
-    await waitForPort(4569, 's3rver')
+    await waitForPort(LOCAL_PORTS.s3, 's3rver')
   }
   if (!process.env.SMTP_URL) {
     env.MAIL_SINK_DIR ??= `${root}.data/mail`
-    if (await portIsOpen(2525)) console.log('[mail] something already listens on 2525: using it')
+    if (await portIsOpen(LOCAL_PORTS.mail)) console.log(`[mail] something already listens on ${LOCAL_PORTS.mail}: using it`)
     else children.push(spawnService('mail', tsx, ['scripts/mailSink.ts'], env))
-    await waitForPort(2525, 'SMTP sink')
+    await waitForPort(LOCAL_PORTS.mail, 'SMTP sink')
   }
 }
 
