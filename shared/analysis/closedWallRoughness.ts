@@ -28,7 +28,7 @@
  * highest removed mode (2 for ./radialWallProfile's default). Output: r in samples (≈ px of arc), B and c in px²,
  * ζ dimensionless.
  */
-import { ROUGHNESS_THEORY } from './wallRoughness'
+import { ROUGHNESS_THEORY, displacementCorrelation } from './wallRoughness'
 
 export interface ClosedWallRoughnessOptions {
   /** Highest Fourier mode removed from the profile (default 2, as ./radialWallProfile). */
@@ -121,24 +121,7 @@ export function closedWallRoughness(u: Float64Array, options: ClosedWallRoughnes
   const n = u.length
   const n0 = Math.max(0, Math.floor(options.removedModes ?? 2)) + 1
   const half = Math.floor(n / 2)
-  const r: number[] = []
-  const B: number[] = []
-  for (let lag = 1; lag <= half; lag++) {
-    let sum = 0
-    let pairs = 0
-    for (let s = 0; s < n; s++) {
-      const d = u[(s + lag) % n] - u[s]
-      // NaN differences (an unknown sample) fail the test and are skipped.
-      if (d === d) {
-        sum += d * d
-        pairs++
-      }
-    }
-    if (pairs > 0) {
-      r.push(lag)
-      B.push(sum / pairs)
-    }
-  }
+  const { r, B } = displacementCorrelation(u, half, true)
   const requested = options.fitRange ?? [3, Math.floor(n / 4)]
   const lo = Math.max(1, Math.min(half, Math.round(requested[0])))
   const hi = Math.max(lo, Math.min(half, Math.round(requested[1])))

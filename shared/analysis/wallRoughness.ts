@@ -89,22 +89,20 @@ function logSpacedLags(lo: number, hi: number): number[] {
 }
 
 /**
- * Displacement–displacement correlation B(r) and roughness exponent ζ of a wall profile u(x).
- * @param u wall position per 1-px step along the wall, px (NaN = missing).
- * @returns B for r = 1 … ⌊L/4⌋; ζ and its SE are null (with a warning) when the profile is shorter than 16 samples,
- *   flat (B = 0) or has fewer than 2 fit lags with B > 0.
- * @example wallRoughness(wallProfileFromMask(mask, 'horizontal')).zeta
+ * The displacement–displacement correlation B(r) = ⟨[u(x+r) − u(x)]²⟩ for r = 1 … maxLag. `periodic` wraps around
+ * (a closed wall's r(θ) profile); otherwise only pairs inside the profile count. NaN samples are skipped; lags
+ * without a pair are left out.
  */
-export function wallRoughness(u: Float64Array, options: WallRoughnessOptions = {}): WallRoughnessResult {
-  const length = u.length
-  const rMaxB = Math.floor(length / 4)
+export function displacementCorrelation(u: Float64Array, maxLag: number, periodic: boolean): { r: number[]; B: number[] } {
+  const n = u.length
   const r: number[] = []
   const B: number[] = []
-  for (let lag = 1; lag <= rMaxB; lag++) {
+  for (let lag = 1; lag <= maxLag; lag++) {
     let sum = 0
     let pairs = 0
-    for (let x = 0; x + lag < length; x++) {
-      const d = u[x + lag] - u[x]
+    const last = periodic ? n : n - lag
+    for (let x = 0; x < last; x++) {
+      const d = u[periodic ? (x + lag) % n : x + lag] - u[x]
       // NaN differences (a missing sample) fail the test and are skipped.
       if (d === d) {
         sum += d * d
@@ -116,6 +114,20 @@ export function wallRoughness(u: Float64Array, options: WallRoughnessOptions = {
       B.push(sum / pairs)
     }
   }
+  return { r, B }
+}
+
+/**
+ * Displacement–displacement correlation B(r) and roughness exponent ζ of a wall profile u(x).
+ * @param u wall position per 1-px step along the wall, px (NaN = missing).
+ * @returns B for r = 1 … ⌊L/4⌋; ζ and its SE are null (with a warning) when the profile is shorter than 16 samples,
+ *   flat (B = 0) or has fewer than 2 fit lags with B > 0.
+ * @example wallRoughness(wallProfileFromMask(mask, 'horizontal')).zeta
+ */
+export function wallRoughness(u: Float64Array, options: WallRoughnessOptions = {}): WallRoughnessResult {
+  const length = u.length
+  const rMaxB = Math.floor(length / 4)
+  const { r, B } = displacementCorrelation(u, rMaxB, false)
   const requested = options.fitRange ?? [2, Math.floor(length / 8)]
   const lo = Math.max(1, Math.min(rMaxB, Math.round(requested[0])))
   const hi = Math.max(lo, Math.min(rMaxB, Math.round(requested[1])))
