@@ -1,7 +1,7 @@
 /**
  * Local domain widths across the medial axis of both phases, from the Euclidean distance/feature transform.
  *
- * Method (METHODS §2.3): exact EDT and feature transform of each phase (./distanceTransform). A pixel p lies on the
+ * Method (METHODS §2.3): exact EDT and feature transform of both phases (./distanceTransform, one pass). A pixel p lies on the
  * medial axis between two facing walls when an 8-neighbour q of the same phase has its nearest wall on the opposite
  * side: unit vectors n̂ from the nearest other-phase pixel, n̂_p·n̂_q < −0.5 (more than 120° apart). This is the
  * feature-transform medial-axis criterion (cf. W. H. Hesselink & J. B. T. M. Roerdink 2008, "Euclidean skeletons of
@@ -27,7 +27,7 @@
  * Buffers: per-pixel working arrays are kept for the last image size, so the frames of a stack allocate only their
  * results.
  */
-import { featureTransform } from './distanceTransform'
+import { featureTransformBothPhases } from './distanceTransform'
 import type { BinaryMask } from './types'
 
 export interface LocalWidthOptions {
@@ -152,18 +152,17 @@ interface FacingPairs {
   partner: Int32Array
 }
 
-/** Facing test of one neighbour pair; each pair is visited once and may update both pixels. */
+/** Facing test of one neighbour pair of the same phase; each pair is visited once and may update both pixels. */
 function comparePair(
   p: number,
   q: number,
   data: Uint8Array,
-  value: number,
   nx: Float32Array,
   ny: Float32Array,
   bestDot: Float32Array,
   partner: Int32Array,
 ): void {
-  if (data[q] !== value) return
+  if (data[q] !== data[p]) return
   const dot = nx[p] * nx[q] + ny[p] * ny[q]
   if (dot < bestDot[p]) {
     bestDot[p] = dot
@@ -205,19 +204,21 @@ function scratchFor(n: number): Scratch {
   return scratch
 }
 
-function facingPairs(mask: BinaryMask, value: 0 | 1, buffers: Scratch): FacingPairs {
+/**
+ * Facing-wall structure of both phases at once (a pixel's wall is the other phase, its partner is of its own phase):
+ * one feature transform, one pass for the unit vectors and one over the forward half of the 8-neighbourhood.
+ */
+function facingPairs(mask: BinaryMask, buffers: Scratch): FacingPairs {
   const { width, height, data } = mask
   const n = width * height
-  const { distance, nearest } = featureTransform(data, width, height, value, {
+  const { distance, nearest } = featureTransformBothPhases(data, width, height, {
     out: buffers.distance,
     nearestOut: buffers.nearest,
   })
-  // Only pixels of the phase are ever read, so stale values elsewhere need no clearing.
   const { nx, ny, bestDot, partner } = buffers
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
       const i = y * width + x
-      if (data[i] !== value) continue
       const f = nearest[i]
       if (f < 0) {
         nx[i] = 0
@@ -237,13 +238,12 @@ function facingPairs(mask: BinaryMask, value: 0 | 1, buffers: Scratch): FacingPa
     const lastRow = y === height - 1
     for (let x = 0; x < width; x++) {
       const p = y * width + x
-      if (data[p] !== value) continue
-      if (x + 1 < width) comparePair(p, p + 1, data, value, nx, ny, bestDot, partner)
+      if (x + 1 < width) comparePair(p, p + 1, data, nx, ny, bestDot, partner)
       if (lastRow) continue
       const below = p + width
-      if (x > 0) comparePair(p, below - 1, data, value, nx, ny, bestDot, partner)
-      comparePair(p, below, data, value, nx, ny, bestDot, partner)
-      if (x + 1 < width) comparePair(p, below + 1, data, value, nx, ny, bestDot, partner)
+      if (x > 0) comparePair(p, below - 1, data, nx, ny, bestDot, partner)
+      comparePair(p, below, data, nx, ny, bestDot, partner)
+      if (x + 1 < width) comparePair(p, below + 1, data, nx, ny, bestDot, partner)
     }
   }
   return { distance, nearest, nx, ny, partner }
@@ -264,11 +264,11 @@ interface RidgeOutput {
 }
 
 /** 'centre' estimator: w = 2·d − 1 at medial pixels that are not closer to their wall than their partner. */
-function centreWidths(mask: BinaryMask, f: FacingPairs, out: RidgeOutput): void {
+function centreWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, out: RidgeOutput): void {
   const n = mask.width * mask.height
   for (let p = 0; p < n; p++) {
     const q = f.partner[p]
-    if (q < 0 || f.distance[p] < f.distance[q] || touchesIgnored(mask.ignore, f, p)) continue
+    if (q < 0 || mask.data[p] !== value || f.distance[p] < f.distance[q] || touchesIgnored(mask.ignore, f, p)) continue
     out.widths[out.count] = 2 * f.distance[p] - 1
     out.index[out.count] = p
     out.count++
@@ -279,19 +279,22 @@ function centreWidths(mask: BinaryMask, f: FacingPairs, out: RidgeOutput): void 
  * Medial pixels chosen for the 'ray' estimator: in every run of consecutive candidates along a row (wall normal
  * closer to x) or a column (closer to y), the pixel nearest the midline. The midline offset is estimated from the
  * EDT, ½·(d(q) + (q − p)·n̂_p − d(p)); its exact value only decides which pixel of the run is used, not how many.
+ * Both phases in one sweep: a pixel of one phase ends the other phase's runs. Returns [up pixels, down pixels].
  */
-function selectRidge(mask: BinaryMask, f: FacingPairs): Int32Array {
-  const { width, height, ignore } = mask
+function selectRidge(mask: BinaryMask, f: FacingPairs): [Int32Array, Int32Array] {
+  const { width, height, ignore, data } = mask
   const { distance, nx, ny, partner } = f
-  const chosen: number[] = []
-  const colBest = new Int32Array(width).fill(-1)
-  const colBestOffset = new Float64Array(width)
+  const chosen: [number[], number[]] = [[], []]
+  // Per phase (index = phase value): best pixel of the open row run and of each column's open run.
+  const rowBest = [-1, -1]
+  const rowBestOffset = [0, 0]
+  const colBest = [new Int32Array(width).fill(-1), new Int32Array(width).fill(-1)]
+  const colBestOffset = [new Float64Array(width), new Float64Array(width)]
   for (let y = 0; y < height; y++) {
     const row = y * width
-    let rowBest = -1
-    let rowBestOffset = 0
     for (let x = 0; x < width; x++) {
       const p = row + x
+      const value = data[p] !== 0 ? 1 : 0
       const q = partner[p]
       let axis = 0
       let offset = 0
@@ -301,29 +304,45 @@ function selectRidge(mask: BinaryMask, f: FacingPairs): Int32Array {
         offset = Math.abs(0.5 * (distance[q] + (qx - x) * nx[p] + (qy - y) * ny[p] - distance[p]))
         axis = Math.abs(nx[p]) >= Math.abs(ny[p]) ? 1 : 2
       }
-      if (axis === 1) {
-        if (rowBest < 0 || offset < rowBestOffset) {
-          rowBest = p
-          rowBestOffset = offset
-        }
-      } else if (rowBest >= 0) {
-        chosen.push(rowBest)
-        rowBest = -1
+      const other = 1 - value
+      // The other phase has no candidate here: its open runs end.
+      if (rowBest[other] >= 0) {
+        chosen[other].push(rowBest[other])
+        rowBest[other] = -1
       }
-      if (axis === 2) {
-        if (colBest[x] < 0 || offset < colBestOffset[x]) {
-          colBest[x] = p
-          colBestOffset[x] = offset
+      const otherCol = colBest[other]
+      if (otherCol[x] >= 0) {
+        chosen[other].push(otherCol[x])
+        otherCol[x] = -1
+      }
+      if (axis === 1) {
+        if (rowBest[value] < 0 || offset < rowBestOffset[value]) {
+          rowBest[value] = p
+          rowBestOffset[value] = offset
         }
-      } else if (colBest[x] >= 0) {
-        chosen.push(colBest[x])
-        colBest[x] = -1
+      } else if (rowBest[value] >= 0) {
+        chosen[value].push(rowBest[value])
+        rowBest[value] = -1
+      }
+      const col = colBest[value]
+      const colOffset = colBestOffset[value]
+      if (axis === 2) {
+        if (col[x] < 0 || offset < colOffset[x]) {
+          col[x] = p
+          colOffset[x] = offset
+        }
+      } else if (col[x] >= 0) {
+        chosen[value].push(col[x])
+        col[x] = -1
       }
     }
-    if (rowBest >= 0) chosen.push(rowBest)
+    for (const value of [0, 1]) {
+      if (rowBest[value] >= 0) chosen[value].push(rowBest[value])
+      rowBest[value] = -1
+    }
   }
-  for (let x = 0; x < width; x++) if (colBest[x] >= 0) chosen.push(colBest[x])
-  return Int32Array.from(chosen)
+  for (const value of [0, 1]) for (let x = 0; x < width; x++) if (colBest[value][x] >= 0) chosen[value].push(colBest[value][x])
+  return [Int32Array.from(chosen[1]), Int32Array.from(chosen[0])]
 }
 
 /**
@@ -432,10 +451,11 @@ export function localDomainWidths(mask: BinaryMask, options: LocalWidthOptions =
   const buffers = scratchFor(width * height)
   const out: RidgeOutput = { widths: buffers.widths, index: buffers.index, count: 0 }
   let upCount = 0
+  const pairs = facingPairs(mask, buffers)
+  const ridges = centre ? null : selectRidge(mask, pairs)
   for (const value of [1, 0] as const) {
-    const pairs = facingPairs(mask, value, buffers)
-    if (centre) centreWidths(mask, pairs, out)
-    else rayWidths(mask, value, pairs, selectRidge(mask, pairs), out)
+    if (ridges === null) centreWidths(mask, value, pairs, out)
+    else rayWidths(mask, value, pairs, ridges[1 - value], out)
     if (value === 1) upCount = out.count
   }
   const total = out.count

@@ -79,6 +79,42 @@ function columnPass(
   }
 }
 
+/**
+ * 3×3 fast path (r = 1, the default clean-up), same result as the running counts: along a row the AND (erosion) or
+ * OR (dilation) of each pixel and its two neighbours, edge pixels repeating themselves.
+ */
+function rowPass3(src: Uint8Array, dst: Uint8Array, width: number, height: number, erode: boolean): void {
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    let previous = src[row] !== 0 ? 1 : 0
+    let current = previous
+    for (let x = 0; x < width; x++) {
+      const next = x + 1 < width ? (src[row + x + 1] !== 0 ? 1 : 0) : current
+      dst[row + x] = erode ? previous & current & next : previous | current | next
+      previous = current
+      current = next
+    }
+  }
+}
+
+/**
+ * Column half of the 3×3 fast path on a 0/1 map: AND or OR of the rows above, at and below (edge rows repeated).
+ * Four pixels at a time through 32-bit words when rows are whole words (bitwise AND/OR of 0/1 bytes stays 0/1).
+ */
+function columnPass3(src: Uint8Array, dst: Uint8Array, width: number, height: number, erode: boolean): void {
+  const words = width % 4 === 0 && src.byteOffset % 4 === 0 && dst.byteOffset % 4 === 0
+  const a = words ? new Uint32Array(src.buffer, src.byteOffset, (width * height) >> 2) : src
+  const b = words ? new Uint32Array(dst.buffer, dst.byteOffset, (width * height) >> 2) : dst
+  const stride = words ? width >> 2 : width
+  for (let y = 0; y < height; y++) {
+    const mid = y * stride
+    const up = (y > 0 ? y - 1 : 0) * stride
+    const down = (y + 1 < height ? y + 1 : y) * stride
+    if (erode) for (let j = 0; j < stride; j++) b[mid + j] = a[up + j] & a[mid + j] & a[down + j]
+    else for (let j = 0; j < stride; j++) b[mid + j] = a[up + j] | a[mid + j] | a[down + j]
+  }
+}
+
 /** Working buffers of the separable passes, kept for the largest image seen (results never alias them). */
 let rowScratch = new Uint8Array(0)
 let middleScratch = new Uint8Array(0)
@@ -94,6 +130,11 @@ function squareFilterInto(src: Uint8Array, out: Uint8Array, width: number, heigh
   }
   const n = width * height
   if (rowScratch.length < n) rowScratch = new Uint8Array(n)
+  if (r === 1) {
+    rowPass3(src, rowScratch, width, height, erode)
+    columnPass3(rowScratch.subarray(0, n), out, width, height, erode)
+    return
+  }
   if (columnSums.length < width) columnSums = new Int32Array(width)
   const need = erode ? 2 * r + 1 : 1
   rowPass(src, rowScratch, width, height, r, need)
