@@ -18,14 +18,24 @@ const QuerySchema = z
 const GroupKeySchema = z.union([z.number(), z.string()]).nullable()
 const ValueSchema = z.object({
   value: z.number(),
-  source: z.enum(['analysis', 'stack-run']),
+  source: z.enum(['analysis', 'stack-run', 'motion']),
   draft: z.boolean(),
   sample: z.object({ id: z.number().int(), name: z.string() }),
-  image: z.object({ id: z.number().int(), name: z.string() }),
+  image: z.object({ id: z.number().int(), name: z.string() }).nullable().describe('null for a value of the whole sample (creep slope)'),
   frameId: z.number().int().nullable(),
   frameIndex: z.number().int().nullable(),
   analysisId: z.number().int().nullable(),
   stackRunId: z.number().int().nullable(),
+  creepFit: z
+    .object({
+      slopeStdErr: z.number().nullable(),
+      series: z.array(z.object({ id: z.number().int(), name: z.string() })),
+      steps: z.number().int(),
+      usedSteps: z.number().int(),
+      creepFieldRangeMT: z.tuple([z.number(), z.number()]).nullable().describe('mT'),
+    })
+    .nullable()
+    .describe('creep slope only: the pooled fit of the sample’s motion series'),
 })
 const GroupSchema = z.object({
   key: GroupKeySchema,
@@ -59,7 +69,14 @@ const ResultSchema = z.object({
   labId: z.number().int(),
   groups: z.array(GroupSchema),
   pairs: z.array(PairSchema),
-  excluded: z.object({ uncalibrated: z.number().int(), noSample: z.number().int(), notAtRemanence: z.number().int(), missing: z.number().int() }),
+  excluded: z.object({
+    uncalibrated: z.number().int(),
+    noSample: z.number().int(),
+    notAtRemanence: z.number().int(),
+    missing: z.number().int(),
+    noMotionSeries: z.number().int(),
+    noCreepFit: z.number().int(),
+  }),
   notes: z.array(z.string()),
 })
 const SavedSchema = z.object({
@@ -77,7 +94,7 @@ export function registerComparisonRoutes(api: ApiDefinition, comparisons: Compar
     method: 'post',
     path: '/comparisons/compute',
     summary:
-      'Compare a measure across samples grouped by an anneal parameter: per group the values, n, mean, SD, bootstrap 95 % CI (fixed seed), five-number summary; pairwise Welch t, Mann–Whitney U, Hedges g, rank-biserial. Only approved work counts unless includeDrafts',
+      'Compare a measure across samples grouped by an anneal parameter: per group the values, n, mean, SD, bootstrap 95 % CI (fixed seed), five-number summary; pairwise Welch t, Mann–Whitney U, Hedges g, rank-biserial. Only approved work counts unless includeDrafts. The creep slope is one value per sample (its motion series pooled in one creep fit, μ = 1/4)',
     tags: ['comparisons'],
     access: 'signed-in',
     body: QuerySchema,

@@ -37,6 +37,13 @@ export function motionRowsOf(frames: Pick<Frame, 'index' | 'pulseField' | 'pulse
   return null
 }
 
+/** The motion series among `images` (frames with pulse durations or times, see motionRowsOf), in their order. */
+export async function selectMotionSeries(images: Image[]): Promise<Image[]> {
+  if (images.length === 0) return []
+  const frames = await Frame.findAll({ where: { imageId: images.map((i) => i.id) }, attributes: ['imageId', 'index', 'pulseField', 'pulseDurationS', 'timeS'] })
+  return images.filter((image) => motionRowsOf(frames.filter((f) => f.imageId === image.id).sort((a, b) => a.index - b.index)) !== null)
+}
+
 function fieldUnitOf(frames: Pick<Frame, 'fieldUnit'>[]): FieldUnit | null {
   const unit = frames.find((f) => f.fieldUnit)?.fieldUnit ?? null
   return unit !== null && (FIELD_UNITS as readonly string[]).includes(unit) ? (unit as FieldUnit) : null
@@ -117,12 +124,12 @@ export function createMotionService(deps: { store: ObjectStore; images: ImageSer
     return { imageId: image.id, imageName: image.name, sample: sample ? { id: sample.id, name: sample.name } : null, engineVersion: ENGINE_VERSION, recipe, motion }
   }
 
-  /** GET /api/samples/:sampleId/motion: every motion series of the sample, pooled v(H) and one creep fit. */
-  async function forSample(user: SessionUser, sampleId: number, input: MotionRecipeInput, options: { mu?: number; fitMu?: boolean } = {}): Promise<SampleMotionDto> {
-    const scope = await resolveMeasurementScope(user, { sampleId }, 'lab.read')
-    const sample = scope.samples[0]
-    const frames = await Frame.findAll({ where: { imageId: scope.images.map((i) => i.id) }, attributes: ['imageId', 'index', 'pulseField', 'pulseDurationS', 'timeS'] })
-    const motionImages = scope.images.filter((image) => motionRowsOf(frames.filter((f) => f.imageId === image.id).sort((a, b) => a.index - b.index)) !== null)
+  /**
+   * Every motion series given (of one sample, already known to be readable by the person): each analysed, their
+   * steps pooled as v(H) points in mT and one creep fit over them. GET /api/samples/:sampleId/motion and the
+   * creep-slope comparison both come here, so they report the same fit.
+   */
+  async function pooledForSample(sample: Sample, motionImages: Image[], input: MotionRecipeInput = {}, options: { mu?: number; fitMu?: boolean } = {}): Promise<SampleMotionDto> {
     const series: SampleMotionSeriesDto[] = await Promise.all(
       motionImages.map(async (image): Promise<SampleMotionSeriesDto> => {
         try {
@@ -162,9 +169,16 @@ export function createMotionService(deps: { store: ObjectStore; images: ImageSer
     }
   }
 
+  /** GET /api/samples/:sampleId/motion: every motion series of the sample, pooled v(H) and one creep fit. */
+  async function forSample(user: SessionUser, sampleId: number, input: MotionRecipeInput, options: { mu?: number; fitMu?: boolean } = {}): Promise<SampleMotionDto> {
+    const scope = await resolveMeasurementScope(user, { sampleId }, 'lab.read')
+    return pooledForSample(scope.samples[0], await selectMotionSeries(scope.images), input, options)
+  }
+
   return {
     forImage,
     forSample,
+    pooledForSample,
     async close() {
       const running = pool
       pool = null

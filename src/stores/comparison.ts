@@ -6,6 +6,7 @@ import { computed, ref, shallowRef, watch } from 'vue'
 import { defineStore } from 'pinia'
 import {
   COMPARISON_MEASURE_INFO,
+  type ComparisonCreepFitDto,
   type ComparisonGroupBy,
   type ComparisonMeasure,
   type ComparisonQuery,
@@ -16,6 +17,7 @@ import {
 import { computeComparison, deleteComparison, getComparison, listComparisons, saveComparison } from '@/api/comparisons'
 import type { ExportScope } from '@/api/exports'
 import { asApiError, type ApiError } from '@/api/http'
+import { formatNumber } from '@/formatQuantity'
 import type { LoadStatus } from './loadStatus'
 import { useSessionStore } from './session'
 
@@ -32,6 +34,12 @@ export interface ComparisonForm {
 export function measureLabel(measure: ComparisonMeasure): string {
   const { label, unit } = COMPARISON_MEASURE_INFO[measure]
   return unit ? `${label} (${unit})` : label
+}
+
+/** "2 series, 4 of 6 steps in the creep fit (4–5.5 mT)": what a creep slope was fitted over. */
+export function creepFitText(fit: ComparisonCreepFitDto): string {
+  const range = fit.creepFieldRangeMT ? ` (${formatNumber(fit.creepFieldRangeMT[0], 3)}–${formatNumber(fit.creepFieldRangeMT[1], 3)} mT)` : ''
+  return `${fit.series.length} series, ${fit.usedSteps} of ${fit.steps} steps in the creep fit${range}`
 }
 
 /** The request for a form, or null while no project is chosen. */
@@ -54,9 +62,11 @@ export function jitterOffset(i: number): number {
 export interface ChartPoint {
   value: [number, number]
   sample: string
-  image: string
+  /** Null for a value of the whole sample (the creep slope). */
+  image: string | null
   frameIndex: number | null
   draft: boolean
+  creepFit: ComparisonCreepFitDto | null
 }
 
 export interface ComparisonChartData {
@@ -72,7 +82,7 @@ export interface ComparisonChartData {
 }
 
 function toPoint(x: number, value: ComparisonValueDto, i: number): ChartPoint {
-  return { value: [x + jitterOffset(i), value.value], sample: value.sample.name, image: value.image.name, frameIndex: value.frameIndex, draft: value.draft }
+  return { value: [x + jitterOffset(i), value.value], sample: value.sample.name, image: value.image?.name ?? null, frameIndex: value.frameIndex, draft: value.draft, creepFit: value.creepFit }
 }
 
 /** Half-width of an error bar's caps, in category widths. */

@@ -136,7 +136,7 @@ describe('comparisons', () => {
       expect(g300.samples.map((x: { name: string }) => x.name)).toEqual(['A 300', 'B 300'])
       expect(g300.hasDrafts).toBe(false)
       // The image without a sample and the one without a pixel size are left out and counted.
-      expect(res.body.excluded).toEqual({ uncalibrated: 1, noSample: 1, notAtRemanence: 0, missing: 0 })
+      expect(res.body.excluded).toEqual({ uncalibrated: 1, noSample: 1, notAtRemanence: 0, missing: 0, noMotionSeries: 0, noCreepFit: 0 })
       expect(res.body.notes.join(' ')).toMatch(/approved/)
     })
 

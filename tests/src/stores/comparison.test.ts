@@ -1,7 +1,7 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import type { ComparisonGroupDto, ComparisonResultDto, ComparisonValueDto } from '@shared/types/comparison'
-import { comparisonChartData, comparisonQuery, jitterOffset, measureLabel, useComparisonStore } from '@/stores/comparison'
+import { comparisonChartData, comparisonQuery, creepFitText, jitterOffset, measureLabel, useComparisonStore } from '@/stores/comparison'
 import { jsonResponse, stubFetch } from '../fakeApi'
 
 function value(v: number, draft = false, frameIndex = 0): ComparisonValueDto {
@@ -15,6 +15,7 @@ function value(v: number, draft = false, frameIndex = 0): ComparisonValueDto {
     frameIndex,
     analysisId: 100 + frameIndex,
     stackRunId: null,
+    creepFit: null,
   }
 }
 
@@ -48,8 +49,24 @@ const RESULT: ComparisonResultDto = {
     group(300, [value(790, false, 0), value(800, true, 1)], { min: 790, q1: 792.5, median: 795, q3: 797.5, max: 800 }, null),
   ],
   pairs: [],
-  excluded: { uncalibrated: 0, noSample: 0, notAtRemanence: 0, missing: 0 },
+  excluded: { uncalibrated: 0, noSample: 0, notAtRemanence: 0, missing: 0, noMotionSeries: 0, noCreepFit: 0 },
   notes: [],
+}
+
+/** A creep slope of one sample (constructed numbers): the value of the whole sample, no image. */
+function creepSlope(sampleId: number, slope: number, slopeStdErr: number): ComparisonValueDto {
+  return {
+    value: slope,
+    source: 'motion',
+    draft: false,
+    sample: { id: sampleId, name: `Film ${sampleId}` },
+    image: null,
+    frameId: null,
+    frameIndex: null,
+    analysisId: null,
+    stackRunId: null,
+    creepFit: { slopeStdErr, series: [{ id: 7, name: 'a.tif' }, { id: 8, name: 'b.tif' }], steps: 6, usedSteps: 4, creepFieldRangeMT: [4, 5.5] },
+  }
 }
 
 beforeEach(() => setActivePinia(createPinia()))
@@ -83,6 +100,7 @@ describe('comparisonQuery', () => {
     ['wallDensity', 'Wall density (µm⁻¹)'],
     ['remanence', 'Remanence M/Ms'],
     ['tc', 'Curie temperature (K)'],
+    ['creepSlope', 'Creep slope C (mT^(1/4))'],
   ] as const)('When the measure is %s, then its label reads "%s"', (measure, label) => {
     expect(measureLabel(measure)).toBe(label)
   })
@@ -127,6 +145,21 @@ describe('comparisonChartData', () => {
       [601, 601],
       [632, 632],
     ])
+  })
+})
+
+describe('creep slopes', () => {
+  it('When a value is a sample’s creep slope, then its point has no image and carries the fit for the tooltip', () => {
+    const groups = [group(250, [creepSlope(1, 40.35, 0.033)], null, [40.35, 40.35])]
+    const result: ComparisonResultDto = { ...RESULT, measure: 'creepSlope', label: 'Creep slope C', unit: 'mT^(1/4)', groups }
+    const [point] = comparisonChartData(result).approvedPoints
+    expect(point).toMatchObject({ value: [0, 40.35], sample: 'Film 1', image: null, frameIndex: null, draft: false })
+    expect(point.creepFit?.slopeStdErr).toBe(0.033)
+  })
+
+  it('When a creep fit is described, then its series, the steps in the creep range and their fields are named', () => {
+    expect(creepFitText(creepSlope(1, 40, 0.1).creepFit!)).toBe('2 series, 4 of 6 steps in the creep fit (4–5.5 mT)')
+    expect(creepFitText({ ...creepSlope(1, 40, 0.1).creepFit!, creepFieldRangeMT: null })).toBe('2 series, 4 of 6 steps in the creep fit')
   })
 })
 
