@@ -20,13 +20,11 @@ export interface JobQueue {
 export function createJobQueue(databaseUrl: string): JobQueue {
   let started: Promise<PgBoss> | null = null
   const boss = () =>
-    (started ??= (async () => {
-      const instance = new PgBoss({ connectionString: databaseUrl, max: 4, retryLimit: 3, retryDelay: 2, expireInMinutes: 30 })
-      instance.on('error', (err) => console.error('[jobs]', err.message))
-      await instance.start()
-      await instance.createQueue(STACK_QUEUE)
-      return instance
-    })())
+    (started ??= startBoss(databaseUrl).catch((err) => {
+      // A start that failed (database down) is tried again by the next caller, so the queue recovers by itself.
+      started = null
+      throw err
+    }))
   return {
     boss,
     async sendStackRun(runId) {
@@ -40,4 +38,18 @@ export function createJobQueue(databaseUrl: string): JobQueue {
       await instance?.stop({ graceful: false, wait: true }).catch(() => {})
     },
   }
+}
+
+async function startBoss(databaseUrl: string): Promise<PgBoss> {
+  const instance = new PgBoss({ connectionString: databaseUrl, max: 4, retryLimit: 3, retryDelay: 2, expireInMinutes: 30 })
+  instance.on('error', (err) => console.error('[jobs]', err.message))
+  await instance.start()
+  try {
+    await instance.createQueue(STACK_QUEUE)
+  } catch (err) {
+    // Started but unusable: stop its timers and pool before the next caller starts another.
+    await instance.stop({ graceful: false, wait: true }).catch(() => {})
+    throw err
+  }
+  return instance
 }
