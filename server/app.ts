@@ -48,6 +48,8 @@ import { registerLabMaterialRoutes } from './routes/labMaterials'
 import { registerSampleMeasurementRoutes } from './routes/sampleMeasurements'
 import { registerMotionRoutes } from './routes/motion'
 import { createMotionService } from './services/motionService'
+import { registerDeletionRoutes } from './routes/deletion'
+import { createDeletionService } from './services/deletionService'
 
 export interface AppDeps {
   config: AppConfig
@@ -117,6 +119,7 @@ export function createApp(deps: AppDeps) {
   registerLabMaterialRoutes(api)
   registerSampleMeasurementRoutes(api, deps.sequelize)
   registerMotionRoutes(api, motion)
+  registerDeletionRoutes(api, createDeletionService(deps))
   if (config.mailSinkDir) registerDevRoutes(api, config.mailSinkDir)
   const document = openApiDocument(api.registry)
   api.router.get('/openapi.json', (_req, res) => res.json(document))

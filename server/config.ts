@@ -28,6 +28,8 @@ export interface AppConfig {
   loginRateLimit: { windowMs: number; max: number }
   /** Largest accepted upload per file, bytes (MAX_UPLOAD_MB). */
   maxUploadBytes: number
+  /** Days a deleted image or project can be restored before the sweep removes it for good (DELETE_RETENTION_DAYS). */
+  deleteRetentionDays: number
   production: boolean
 }
 
@@ -36,6 +38,12 @@ function intFromEnv(name: string, fallback: number): number {
   if (raw === undefined || raw === '') return fallback
   const value = Number(raw)
   if (!Number.isInteger(value)) throw new Error(`${name} must be an integer, got "${raw}"`)
+  return value
+}
+
+function positiveIntFromEnv(name: string, fallback: number): number {
+  const value = intFromEnv(name, fallback)
+  if (value < 1) throw new Error(`${name} must be at least 1, got ${value}`)
   return value
 }
 
@@ -82,6 +90,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       max: intFromEnv('LOGIN_RATE_MAX', 20),
     },
     maxUploadBytes: intFromEnv('MAX_UPLOAD_MB', 2048) * 1024 * 1024,
+    deleteRetentionDays: positiveIntFromEnv('DELETE_RETENTION_DAYS', 30),
     production,
     ...overrides,
   }

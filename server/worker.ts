@@ -10,6 +10,7 @@ import { createAnalysisPool } from './analysis/analysisPool'
 import { createJobQueue, STACK_QUEUE, type StackJobData } from './jobs/jobQueue'
 import { findOrphanedRuns, processStackRun } from './jobs/stackRunProcessor'
 import { StackRun } from './models'
+import { createDeletionService } from './services/deletionService'
 
 const config = loadConfig()
 const deps = createDeps(config)
@@ -17,6 +18,9 @@ const pool = createAnalysisPool({ size: Number(process.env.WORKER_THREADS ?? 0) 
 const jobs = createJobQueue(config.databaseUrl)
 const staleSeconds = Number(process.env.STALE_RUN_SECONDS ?? 60)
 const workerName = `${hostname()}:${process.pid}`
+/** How often deleted items past their retention period are removed for good (the sweep also runs at start). */
+const DELETION_SWEEP_MS = 60 * 60 * 1000
+const deletion = createDeletionService(deps)
 
 /** Runs whose worker died are queued again; the claim in processStackRun makes a double send harmless. */
 async function requeueOrphans() {
@@ -37,12 +41,21 @@ await boss.work<StackJobData>(STACK_QUEUE, { pollingIntervalSeconds: 0.5, batchS
   if (outcome === 'processed') console.log(`[worker] run ${job.data.runId} finished in ${((Date.now() - started) / 1000).toFixed(1)} s`)
 })
 await requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message))
+/** Several workers may sweep at once: each item is locked while it is removed, so nothing is removed twice. */
+async function sweepDeletedItems() {
+  const report = await deletion.purgeExpired()
+  if (report.purgedProjects + report.purgedImages > 0) console.log(`[worker] retention sweep: ${report.purgedProjects} projects, ${report.purgedImages} images, ${report.objectsRemoved} objects removed for good`)
+  for (const failure of report.failures) console.error(`[worker] retention sweep: ${failure.kind} ${failure.id} not removed: ${failure.message}`)
+}
+await sweepDeletedItems().catch((err) => console.error('[worker] retention sweep failed:', err.message))
+const sweeper = setInterval(() => sweepDeletedItems().catch((err) => console.error('[worker] retention sweep failed:', err.message)), DELETION_SWEEP_MS)
 const reaper = setInterval(() => requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message)), Math.max(1000, (staleSeconds * 1000) / 2))
 console.log(`[worker] ${workerName} waiting for stack runs (${pool.size} analysis threads)`)
 
 async function shutdown(signal: string) {
   console.log(`[worker] ${signal}: stopping`)
   clearInterval(reaper)
+  clearInterval(sweeper)
   await jobs.close()
   await pool.close()
   await deps.dispose()

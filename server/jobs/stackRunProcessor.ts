@@ -50,8 +50,9 @@ export async function processStackRun(deps: { sequelize: Sequelize; store: Objec
 
 async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool: AnalysisPool }, run: StackRun) {
   const { store, pool } = deps
-  const image = await Image.findByPk(run.imageId)
-  if (!image) throw new Error(`image ${run.imageId} of run ${run.id} no longer exists`)
+  // A run queued before its image was deleted is not processed: a purge could remove the image mid-run.
+  const image = await Image.findOne({ where: { id: run.imageId, deletedAt: null } })
+  if (!image) throw new Error(`image ${run.imageId} of run ${run.id} was deleted`)
   const recipe: AnalysisRecipe = normalizeRecipe(run.recipe as Partial<AnalysisRecipe>)
   const frames = await Frame.findAll({ where: { imageId: image.id }, order: [['index', 'ASC']] })
   const meta: StackMeta = { pixelSizeNm: image.pixelSizeNm, fieldUnit: frames.find((f) => f.fieldUnit)?.fieldUnit ?? null, frames: frames.map((f) => ({ field: f.field, temperatureK: f.temperatureK })) }

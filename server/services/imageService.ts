@@ -192,7 +192,7 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
   }
 
   async function findImageFor(user: SessionUser, imageId: number, action: Parameters<typeof assertLabAction>[2] = 'lab.read') {
-    const image = await Image.findOne({ where: { id: imageId, deletedAt: null }, include: [{ model: Project, attributes: ['id', 'labId'] }] })
+    const image = await Image.findOne({ where: { id: imageId, deletedAt: null }, include: [{ model: Project, attributes: ['id', 'labId'], where: { deletedAt: null } }] })
     if (!image) throw notFound('image')
     const labId = (image as unknown as { Project: Project }).Project.labId
     assertLabAction(user, labId, action, 'image')
@@ -286,7 +286,7 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
   }
 
   async function assignFrames(user: SessionUser, imageIds: number[], assigneeId: number | null) {
-    const images = await Image.findAll({ where: { id: imageIds, deletedAt: null }, include: [{ model: Project, attributes: ['labId'] }] })
+    const images = await Image.findAll({ where: { id: imageIds, deletedAt: null }, include: [{ model: Project, attributes: ['labId'], where: { deletedAt: null } }] })
     if (images.length !== new Set(imageIds).size) throw notFound('image')
     const labIds = new Set(images.map((i) => (i as unknown as { Project: Project }).Project.labId))
     for (const labId of labIds) assertLabAction(user, labId, 'image.assign', 'image')

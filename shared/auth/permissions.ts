@@ -28,6 +28,16 @@ export const PERMISSIONS = {
   'image.upload': ['admin', 'pi', 'microscopist'],
   'image.editMetadata': ['admin', 'pi', 'microscopist'],
   'image.assign': ['admin', 'pi', 'microscopist'],
+  /** Move an image the person uploaded to the lab's deleted items (restorable; see 'deleted.restore'). */
+  'image.delete': ['admin', 'pi', 'microscopist'],
+  /** Also delete images someone else uploaded. */
+  'image.deleteOthers': ['admin', 'pi'],
+  /** Move a project with all its images to the lab's deleted items. */
+  'project.delete': ['admin', 'pi'],
+  /** See the lab's deleted items and bring one back while its retention period lasts. */
+  'deleted.restore': ['admin', 'pi'],
+  /** Remove a deleted item for good before its retention period ends (rows and stored files; audited). */
+  'deleted.purge': ['admin', 'pi'],
   'mask.edit': ['admin', 'pi', 'annotator'],
   'analysis.run': ['admin', 'pi', 'microscopist', 'annotator'],
   'analysis.submit': ['admin', 'pi', 'annotator'],

@@ -42,6 +42,7 @@ export type RouteName =
   | 'sample-report'
   | 'api-tokens'
   | 'lab-admin'
+  | 'deleted-items'
   | 'mailbox'
   | 'forbidden'
   | 'not-found'
@@ -140,6 +141,12 @@ const shellRoutes: NamedRoute[] = [
     name: 'lab-admin',
     component: () => import('@/views/LabAdminView.vue'),
     meta: { title: 'Lab admin', requires: 'lab.manage' },
+  },
+  {
+    path: 'deleted-items',
+    name: 'deleted-items',
+    component: () => import('@/views/DeletedItemsView.vue'),
+    meta: { title: 'Deleted items', requires: 'deleted.restore' },
   },
   { path: 'settings/tokens', name: 'api-tokens', component: () => import('@/views/ApiTokensView.vue'), meta: { title: 'API tokens' } },
   { path: 'dev/mailbox', name: 'mailbox', component: () => import('@/views/MailboxView.vue'), meta: { title: 'Mailbox (dev)' } },
