@@ -6,39 +6,21 @@
  * completely. Prints the latency percentiles (autocannon reports p97.5, which bounds p95 from above) and errors.
  */
 import autocannon from 'autocannon'
-import { mkdtempSync, rmSync } from 'node:fs'
-import { tmpdir } from 'node:os'
-import path from 'node:path'
 import type { AddressInfo } from 'node:net'
-import pg from 'pg'
-import { loadConfig } from '../server/config'
-import { createDeps } from '../server/runtime'
+import type { Sequelize } from 'sequelize'
 import { createApp } from '../server/app'
-import { migrateToLatest } from '../server/migrator'
 import { hashPassword } from '../server/auth/passwords'
 import { Frame, Image } from '../server/models'
 import { encodeTiff } from '../shared/imageio/encodeTiff'
 import { renderFieldSweep } from './sampleImages'
-import { startS3Server } from './s3Server'
-import { startMailSink } from './mailSink'
+import { startThrowawayServices } from './throwawayServices'
 
 const SECONDS = Number(process.env.LOAD_SECONDS ?? 20)
 const USERS = 50
 const PASSWORD = 'load-test-password-1'
 
-async function recreate(url: URL) {
-  const name = url.pathname.slice(1)
-  const admin = new URL(url)
-  admin.pathname = '/postgres'
-  const client = new pg.Client({ connectionString: admin.toString() })
-  await client.connect()
-  await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`)
-  await client.query(`CREATE DATABASE "${name}"`)
-  await client.end()
-}
-
 /** Bulk rows straight in SQL: the point is a realistic size, not the upload path (which the uploads below exercise). */
-async function fill(sequelize: ReturnType<typeof createDeps>['sequelize']) {
+async function fill(sequelize: Sequelize) {
   const hash = await hashPassword(PASSWORD)
   const q = (sql: string, replacements: Record<string, unknown> = {}) => sequelize.query(sql, { replacements })
   await q(`INSERT INTO labs (name, institution, created_at, updated_at) VALUES ('Load-test lab', 'Loopback', now(), now())`)
@@ -68,21 +50,8 @@ async function fill(sequelize: ReturnType<typeof createDeps>['sequelize']) {
   return counts
 }
 
-const base = new URL(process.env.DATABASE_URL ?? loadConfig().databaseUrl)
-base.pathname = `${base.pathname}_load`
-await recreate(base)
-const work = mkdtempSync(path.join(tmpdir(), 'remanence-load-'))
-const s3 = await startS3Server({ port: 0, directory: path.join(work, 's3'), bucket: 'remanence-load' })
-const mail = await startMailSink({ port: 0, directory: path.join(work, 'mail') })
-const config = loadConfig({
-  databaseUrl: base.toString(),
-  s3: { endpoint: s3.endpoint, region: 'us-east-1', bucket: 'remanence-load', accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER', forcePathStyle: true },
-  smtpUrl: mail.url,
-  loginRateLimit: { windowMs: 60_000, max: 10_000 },
-})
-const deps = createDeps(config)
-await migrateToLatest(deps.sequelize)
-await deps.store.ensureBucket()
+const services = await startThrowawayServices('load', { loginRateLimit: { windowMs: 60_000, max: 10_000 } })
+const { deps } = services
 console.log('[load] filling the database…')
 const counts = await fill(deps.sequelize)
 console.log(`[load] ${counts.projects} projects, ${counts.images} images, ${counts.measurements} measurements`)
@@ -158,10 +127,7 @@ for (const u of uploaded) if (u.status !== 201) console.log(`[load] an upload an
 server.closeAllConnections()
 server.close()
 await built.close()
-await deps.dispose()
-await s3.close()
-await mail.close()
-rmSync(work, { recursive: true, force: true })
+await services.close()
 const ok = report.latencyMs.p97_5 < 200 && report.errors === 0 && report.non2xx === 0 && complete === 5
 console.log(ok ? '[load] PASS: p97.5 < 200 ms (so p95 too), no errors, all 5 stacks stored completely' : '[load] FAIL: see the figures above')
 process.exit(ok ? 0 : 1)

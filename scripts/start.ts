@@ -5,11 +5,11 @@
  */
 import type { ChildProcess } from 'node:child_process'
 import { fileURLToPath } from 'node:url'
-import { existsSync, readFileSync } from 'node:fs'
 import { loadConfig, LOCAL_PORTS } from '../server/config'
 import { createDeps } from '../server/runtime'
 import { migrateToLatest } from '../server/migrator'
 import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
+import { ensureSamples } from './ensureSamples'
 import { seedDemoLab } from './seed'
 import { portIsOpen, run, spawnService, waitForPort } from './processes'
 
@@ -38,15 +38,6 @@ async function startLocalServices() {
   }
 }
 
-/** The demo images are generated (deterministically) when missing, not committed. */
-async function ensureSamples() {
-  const manifest = JSON.parse(readFileSync('samples/manifest.json', 'utf8')) as { files: { file: string }[] }
-  if (manifest.files.some((f) => !existsSync(`samples/${f.file}`))) {
-    console.log('[samples] generating the demo images')
-    await run(tsx, ['scripts/generateSamples.ts'])
-  }
-}
-
 async function prepareDatabase() {
   const deps = createDeps(loadConfig())
   try {
@@ -71,7 +62,7 @@ process.on('SIGTERM', () => void stopAll(0))
 
 try {
   await startLocalServices()
-  await ensureSamples()
+  ensureSamples()
   await prepareDatabase()
   console.log('[build] building the client')
   await run('node_modules/.bin/vite', ['build', '--logLevel', 'warn'])

@@ -3,6 +3,8 @@
  * → checksum and duplicate check → store the original unchanged and the per-frame derivatives in the object store →
  * write the image and frame rows in one transaction. Nothing half-written: a failure before the rows are committed
  * removes every object this upload stored.
+ * Memory stays bounded whatever the file size: the upload is read from multer's temporary file range by range (headers
+ * for the checks, one page at a time for the derivatives), hashed and sent to the store as streams.
  */
 import { randomUUID, createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
@@ -19,6 +21,7 @@ import { assertLabAction } from '../auth/guards'
 import { AppError, ServiceUnavailableError, notFound } from '../errors'
 import { Frame, Image, Project, Sample, User } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
+import { openFileByteSource, withFileByteSource } from '../storage/fileByteSource'
 import { renderFrame } from './frameRendering'
 import { recordAudit } from './auditService'
 
@@ -66,15 +69,16 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
     return project
   }
 
-  /** Validate one file without storing anything: magic bytes, headers, limits. */
-  async function inspect(file: UploadedFile): Promise<{ header: ImageHeader; bytes: Uint8Array }> {
+  /** Validate one file without storing anything: magic bytes, headers, limits (a TIFF's directories only are read). */
+  async function inspect(file: UploadedFile): Promise<{ header: ImageHeader }> {
     if (file.size === 0) throw new AppError(400, 'empty-file', `${file.originalName}: the file is empty.`, { file: file.originalName })
-    const bytes = new Uint8Array(await readFile(file.path))
-    try {
-      return { header: await probeImage(bytes, file.originalName), bytes }
-    } catch (err) {
-      throw decodeErrorToAppError(err, file.originalName)
-    }
+    return withFileByteSource(file.path, async (source) => {
+      try {
+        return { header: await probeImage(source, file.originalName) }
+      } catch (err) {
+        throw decodeErrorToAppError(err, file.originalName)
+      }
+    })
   }
 
   async function upload(user: SessionUser, projectId: number, files: UploadedFile[], framesCsv: UploadedFile | undefined, options: UploadOptions): Promise<UploadedImageDto[]> {
@@ -108,7 +112,7 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
   async function storeOne(
     user: SessionUser,
     project: Project,
-    item: { file: UploadedFile; header: ImageHeader; bytes: Uint8Array },
+    item: { file: UploadedFile; header: ImageHeader },
     frameTable: ReturnType<typeof validateFramesCsv> | null,
     options: UploadOptions,
   ): Promise<UploadedImageDto> {
@@ -121,11 +125,13 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
     const extension = header.format === 'tiff' ? '.tif' : header.format === 'png' ? '.png' : '.jpg'
     const objectKey = `labs/${project.labId}/images/${randomUUID()}/original${extension}`
     const stored: string[] = []
+    const source = await openFileByteSource(file.path)
     try {
       await store.put(objectKey, createReadStream(file.path), header.mediaType)
       stored.push(objectKey)
+      // One frame at a time: decode, render, store, and let it go before the next.
       for (let index = 0; index < header.frameCount; index++) {
-        const frame = await decodeFrame(item.bytes, file.originalName, index).catch((err) => {
+        const frame = await decodeFrame(source, file.originalName, index).catch((err) => {
           throw decodeErrorToAppError(err, file.originalName)
         })
         const { preview, thumbnail } = await renderFrame(frame)
@@ -188,6 +194,8 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
       await Promise.allSettled(stored.map((key) => store.remove(key)))
       if (err instanceof AppError || isDatabaseError(err)) throw err
       throw new ServiceUnavailableError('storage', `${file.originalName}: the image store is not reachable right now; nothing was saved. Try again in a moment.`)
+    } finally {
+      await source.close()
     }
   }
 

@@ -22,18 +22,26 @@
  * decoder gets a memory cap derived from the checked frame header.
  * Frame numbering: frames are 0-based, in file order; TIFF pages flagged as reduced-resolution copies or transparency
  * masks (NewSubfileType bits 0 and 2) are skipped.
+ * Input: the file's bytes, or a ByteSource that reads them range by range. From a ByteSource a TIFF is probed by
+ * reading its header and directories only, and each frame by reading that page's strips or tiles only, so memory
+ * follows one frame, not the file; PNG and JPEG are single frames whose decoder takes the whole file, which is read.
  */
 import type { GeoTIFF, GeoTIFFImage } from 'geotiff'
 import type { GrayImage } from '../analysis/types'
 import { formatLength, pixelSizeFromTiffResolution, parseLength } from '../units/lengthUnits'
+import { bytesSource, wholeFile, type ByteSource } from './byteSource'
 import { ImageDecodeError } from './imageDecodeError'
 import { blockCount, minimumScanBytes, readJpegHeader, type JpegHeader } from './readJpegHeader'
 import { minimumImageDataBytes, readPngHeader } from './readPngHeader'
 import { readTiffDirectories, SUPPORTED_TIFF_COMPRESSIONS, type TiffPage } from './readTiffDirectories'
 
 export { ImageDecodeError, type ImageDecodeErrorCode } from './imageDecodeError'
+export type { ByteSource } from './byteSource'
 
 export type ImageFormat = 'png' | 'jpeg' | 'tiff'
+
+/** A whole file in memory, or random access to one (e.g. an upload on the server's disk). */
+export type ImageInput = Uint8Array | ByteSource
 
 export interface ImageHeader {
   format: ImageFormat
@@ -119,10 +127,10 @@ function checkFrameSize(width: number, height: number, fileName: string, limits:
   }
 }
 
-/** A whole-file ArrayBuffer for decoders that take one (copied only when `bytes` is a view into a larger buffer). */
+/** An ArrayBuffer holding exactly `bytes`, for decoders that take one (copied only when `bytes` is a view into more). */
 function ownBuffer(bytes: Uint8Array): ArrayBuffer {
-  // A SharedArrayBuffer (the analysis pool shares one file with every worker) is read in place: geotiff only reads it,
-  // and copying it would give every worker thread its own copy of a whole stack.
+  // A SharedArrayBuffer (the analysis pool shares one file with every worker) is read in place: the decoders only read
+  // it, and copying it would give every worker thread its own copy of a whole stack.
   const shared = typeof SharedArrayBuffer !== 'undefined' && bytes.buffer instanceof SharedArrayBuffer
   const whole = bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength && (bytes.buffer instanceof ArrayBuffer || shared)
   return whole ? (bytes.buffer as ArrayBuffer) : (bytes.slice().buffer as ArrayBuffer)
@@ -225,26 +233,48 @@ interface TiffContext {
   tiff: GeoTIFF
 }
 
-/** Parsed TIFF structure per byte array, so decoding frame after frame does not walk the IFD chain each time. */
-const tiffContexts = new WeakMap<Uint8Array, Promise<TiffContext>>()
+/** Parsed TIFF structure per input, so decoding frame after frame does not walk the IFD chain each time. */
+const tiffContexts = new WeakMap<ImageInput, Promise<TiffContext>>()
 
 function sameLimits(a: DecodeLimits, b: DecodeLimits): boolean {
   return a.maxFrames === b.maxFrames && a.maxPixelsPerFrame === b.maxPixelsPerFrame && a.maxTotalPixels === b.maxTotalPixels
 }
 
-async function tiffContext(bytes: Uint8Array, fileName: string, limits: DecodeLimits): Promise<TiffContext> {
-  const cached = tiffContexts.get(bytes)
+async function tiffContext(input: ImageInput, fileName: string, limits: DecodeLimits): Promise<TiffContext> {
+  const cached = tiffContexts.get(input)
   if (cached !== undefined) {
     const context = await cached.catch(() => null)
     if (context !== null && sameLimits(context.limits, limits)) return context
   }
-  const created = createTiffContext(bytes, fileName, limits)
-  tiffContexts.set(bytes, created)
+  const created = createTiffContext(asSource(input), fileName, limits)
+  tiffContexts.set(input, created)
   return created
 }
 
-async function createTiffContext(bytes: Uint8Array, fileName: string, limits: DecodeLimits): Promise<TiffContext> {
-  const layout = readTiffDirectories(bytes, fileName, {
+function asSource(input: ImageInput): ByteSource {
+  return input instanceof Uint8Array ? bytesSource(input) : input
+}
+
+type GeoTiffSource = Parameters<typeof GeoTIFF.fromSource>[0]
+
+/** geotiff's source interface over a ByteSource: every range geotiff asks for is read when it asks. */
+function geotiffSource(source: ByteSource): GeoTiffSource {
+  const fetchSlice = async (slice: { offset: number; length: number }) => ({
+    ...slice,
+    data: ownBuffer(await source.read(slice.offset, slice.length)),
+  })
+  return {
+    fetchSlice,
+    fetch: (slices: { offset: number; length: number }[]) => Promise.all(slices.map(async (slice) => (await fetchSlice(slice)).data)),
+    get fileSize() {
+      return source.byteLength
+    },
+    close: async () => {},
+  }
+}
+
+async function createTiffContext(source: ByteSource, fileName: string, limits: DecodeLimits): Promise<TiffContext> {
+  const layout = await readTiffDirectories(source, fileName, {
     maxDirectories: limits.maxFrames,
     maxPixelsPerPage: limits.maxPixelsPerFrame,
     maxTotalPixels: limits.maxTotalPixels,
@@ -259,15 +289,12 @@ async function createTiffContext(bytes: Uint8Array, fileName: string, limits: De
   const extra = first.samplesPerPixel - (frames.photometric === 2 ? 3 : 1)
   if (extra > 0) notes.push(`${extra} extra sample(s) per pixel (e.g. alpha) ignored`)
 
-  const [{ fromArrayBuffer }, { registerBoundedTiffDecoders }] = await Promise.all([
-    import('geotiff'),
-    import('./registerBoundedTiffDecoders'),
-  ])
+  const [{ GeoTIFF }, { registerBoundedTiffDecoders }] = await Promise.all([import('geotiff'), import('./registerBoundedTiffDecoders')])
   registerBoundedTiffDecoders()
   let tiff: GeoTIFF
   let resolution: TiffResolutionTags
   try {
-    tiff = await fromArrayBuffer(ownBuffer(bytes))
+    tiff = await GeoTIFF.fromSource(geotiffSource(source))
     resolution = await readResolutionTags(await tiff.getImage(first.ifdIndex))
   } catch (err) {
     throw new ImageDecodeError('corrupt-image', fileName, `the TIFF tags could not be read (${(err as Error).message}).`)
@@ -496,38 +523,45 @@ async function decodeTiffFrame(context: TiffContext, fileName: string, index: nu
   return { width, height, data }
 }
 
+/** Bytes enough to recognise the format and to tell text from binary in the refusal message. */
+const SNIFF_BYTES = 64
+
 /**
- * Read the headers only and check them against the limits; no pixel data is decoded or allocated.
+ * Read the headers only and check them against the limits; no pixel data is decoded or allocated. From a ByteSource,
+ * a TIFF is checked by reading its header and directories only.
  * @throws ImageDecodeError empty-file (400), unsupported-type (415), corrupt-image (400), image-too-large (413) or
  *   too-many-frames (413); each message names the file.
  * @example const header = await probeImage(bytes, 'KB24-A300.tif') // { format: 'tiff', frameCount: 1, ... }
  */
-export async function probeImage(bytes: Uint8Array, fileName: string, limits?: Partial<DecodeLimits>): Promise<ImageHeader> {
+export async function probeImage(input: ImageInput, fileName: string, limits?: Partial<DecodeLimits>): Promise<ImageHeader> {
   const resolved = resolveLimits(limits)
-  if (bytes.length === 0) throw new ImageDecodeError('empty-file', fileName, 'the file is empty.')
-  const format = sniffFormat(bytes)
-  if (format === null) throw unsupportedFormat(bytes, fileName)
-  if (format === 'png') return probePng(bytes, fileName, resolved)
-  if (format === 'jpeg') return probeJpeg(bytes, fileName, resolved)
-  return { ...(await tiffContext(bytes, fileName, resolved)).header }
+  if (input.byteLength === 0) throw new ImageDecodeError('empty-file', fileName, 'the file is empty.')
+  const head = await asSource(input).read(0, SNIFF_BYTES)
+  const format = sniffFormat(head)
+  if (format === null) throw unsupportedFormat(head, fileName)
+  if (format === 'png') return probePng(await wholeFile(input), fileName, resolved)
+  if (format === 'jpeg') return probeJpeg(await wholeFile(input), fileName, resolved)
+  return { ...(await tiffContext(input, fileName, resolved)).header }
 }
 
 /**
  * Decode one frame (0-based) to greyscale: Uint8Array for 8-bit, Uint16Array for 16-bit, Float32Array for float TIFF.
- * TIFF stacks are parsed once per byte array (cached), so frame-by-frame decoding stays linear in the page count.
+ * TIFF stacks are parsed once per input (cached), so frame-by-frame decoding stays linear in the page count; from a
+ * ByteSource only that page's data is read.
  * @throws ImageDecodeError as probeImage, or corrupt-image when the frame's data is damaged.
  * @throws RangeError when `index` is not a frame of the file.
  */
-export async function decodeFrame(bytes: Uint8Array, fileName: string, index: number, limits?: Partial<DecodeLimits>): Promise<GrayImage> {
+export async function decodeFrame(input: ImageInput, fileName: string, index: number, limits?: Partial<DecodeLimits>): Promise<GrayImage> {
   const resolved = resolveLimits(limits)
-  const header = await probeImage(bytes, fileName, resolved)
+  const header = await probeImage(input, fileName, resolved)
   if (!Number.isInteger(index) || index < 0 || index >= header.frameCount) {
     throw new RangeError(`Frame ${index} does not exist in "${fileName}" (${header.frameCount} frame(s), numbered from 0).`)
   }
   if (header.format !== 'tiff') {
+    const bytes = await wholeFile(input)
     return decodeWithJimp(bytes, fileName, resolved, header.format === 'jpeg' ? readJpegHeader(bytes, fileName) : null)
   }
-  return decodeTiffFrame(await tiffContext(bytes, fileName, resolved), fileName, index)
+  return decodeTiffFrame(await tiffContext(input, fileName, resolved), fileName, index)
 }
 
 /**
@@ -535,13 +569,13 @@ export async function decodeFrame(bytes: Uint8Array, fileName: string, index: nu
  * @throws ImageDecodeError as probeImage and decodeFrame.
  */
 export async function decodeImage(
-  bytes: Uint8Array,
+  input: ImageInput,
   fileName: string,
   limits?: Partial<DecodeLimits>,
 ): Promise<{ header: ImageHeader; frames: GrayImage[] }> {
   const resolved = resolveLimits(limits)
-  const header = await probeImage(bytes, fileName, resolved)
+  const header = await probeImage(input, fileName, resolved)
   const frames: GrayImage[] = []
-  for (let index = 0; index < header.frameCount; index++) frames.push(await decodeFrame(bytes, fileName, index, resolved))
+  for (let index = 0; index < header.frameCount; index++) frames.push(await decodeFrame(input, fileName, index, resolved))
   return { header, frames }
 }

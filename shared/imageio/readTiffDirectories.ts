@@ -9,7 +9,10 @@
  * the limits before geotiff allocates anything, and a hostile chain (a loop, or thousands of pages) must cost at most
  * `maxDirectories` small reads. Every offset is bounds-checked; strip and tile byte ranges must lie inside the file and
  * be long enough to decode to the block's size (see MAX_EXPANSION).
+ * The walk reads ranges from a ByteSource (the header, each IFD, each out-of-line tag value), never pixel data, so a
+ * stack on disk is checked without loading it.
  */
+import type { ByteSource } from './byteSource'
 import { ImageDecodeError } from './imageDecodeError'
 
 /** Layout of one IFD (page). */
@@ -75,6 +78,8 @@ interface Entry {
   count: number
   /** Byte offset of the value (inline values point into the entry itself). */
   valueOffset: number
+  /** The entry's 4-byte value field when the values fit in it (TIFF 6.0: then they are stored there), else null. */
+  inline: DataView | null
 }
 
 /** Compressions decoded (with bounded decoders, see registerBoundedTiffDecoders): none, LZW, Deflate, PackBits. */
@@ -102,34 +107,37 @@ const MAX_EXPANSION: ReadonlyMap<number, number> = new Map([
 ])
 
 class TiffReader {
-  private readonly view: DataView
-
   constructor(
-    private readonly bytes: Uint8Array,
+    private readonly source: ByteSource,
     readonly littleEndian: boolean,
     readonly fileName: string,
-  ) {
-    this.view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength)
-  }
+  ) {}
 
   get length(): number {
-    return this.bytes.byteLength
+    return this.source.byteLength
   }
 
   corrupt(detail: string): ImageDecodeError {
     return new ImageDecodeError('corrupt-image', this.fileName, `the TIFF structure is damaged: ${detail}`)
   }
 
-  u16(offset: number): number {
-    return this.view.getUint16(offset, this.littleEndian)
+  /** `length` bytes at `offset`, which the caller has checked lie inside the file. */
+  async view(offset: number, length: number): Promise<DataView> {
+    const bytes = await this.source.read(offset, length)
+    if (bytes.byteLength < length) throw this.corrupt(`the file ends at byte ${offset + bytes.byteLength} (truncated?).`)
+    return new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength)
   }
 
-  u32(offset: number): number {
-    return this.view.getUint32(offset, this.littleEndian)
+  u16(view: DataView, at: number): number {
+    return view.getUint16(at, this.littleEndian)
+  }
+
+  u32(view: DataView, at: number): number {
+    return view.getUint32(at, this.littleEndian)
   }
 
   /** Unsigned integer values of a BYTE, SHORT or LONG entry. */
-  integers(entry: Entry, tag: number, page: number): number[] {
+  async integers(entry: Entry, tag: number, page: number): Promise<number[]> {
     const size = TYPE_SIZE[entry.type]
     if (entry.type !== 1 && entry.type !== 3 && entry.type !== 4) {
       throw this.corrupt(`tag ${tag} on page ${page + 1} has field type ${entry.type}, expected an unsigned integer.`)
@@ -137,10 +145,11 @@ class TiffReader {
     if (entry.valueOffset + entry.count * size > this.length) {
       throw this.corrupt(`the values of tag ${tag} on page ${page + 1} lie past the end of the file (truncated?).`)
     }
+    const view = entry.inline ?? (await this.view(entry.valueOffset, entry.count * size))
     const values = new Array<number>(entry.count)
     for (let i = 0; i < entry.count; i++) {
-      const at = entry.valueOffset + i * size
-      values[i] = entry.type === 1 ? this.bytes[at] : entry.type === 3 ? this.u16(at) : this.u32(at)
+      const at = i * size
+      values[i] = entry.type === 1 ? view.getUint8(at) : entry.type === 3 ? this.u16(view, at) : this.u32(view, at)
     }
     return values
   }
@@ -149,23 +158,26 @@ class TiffReader {
 /**
  * Read the page layouts of a classic (32-bit offset) TIFF.
  * Work is bounded by the limits and the file length: at most `maxDirectories` IFDs, and at most one strip or tile
- * entry per 8 bytes of file (each block needs its own offset and byte count in a well-formed file).
+ * entry per 8 bytes of file (each block needs its own offset and byte count in a well-formed file). Reads are a few
+ * per page: the IFD, and the tag values stored outside it.
  * @throws ImageDecodeError corrupt-image (bad header, offsets outside the file, a looping chain, missing required
  *   tags, strips past the end), too-many-frames or image-too-large.
  */
-export function readTiffDirectories(bytes: Uint8Array, fileName: string, limits: TiffWalkLimits): TiffLayout {
+export async function readTiffDirectories(source: ByteSource, fileName: string, limits: TiffWalkLimits): Promise<TiffLayout> {
   const { maxDirectories } = limits
-  if (bytes.byteLength < 8) {
-    throw new ImageDecodeError('corrupt-image', fileName, `the TIFF header is cut short (${bytes.byteLength} bytes).`)
+  const head = await source.read(0, 8)
+  if (head.byteLength < 8) {
+    throw new ImageDecodeError('corrupt-image', fileName, `the TIFF header is cut short (${head.byteLength} bytes).`)
   }
-  const littleEndian = bytes[0] === 0x49
-  const reader = new TiffReader(bytes, littleEndian, fileName)
-  if (reader.u16(2) !== 42) throw reader.corrupt('the version number is not 42.')
+  const littleEndian = head[0] === 0x49
+  const reader = new TiffReader(source, littleEndian, fileName)
+  const headView = new DataView(head.buffer, head.byteOffset, 8)
+  if (reader.u16(headView, 2) !== 42) throw reader.corrupt('the version number is not 42.')
 
   const pages: TiffPage[] = []
   const visited = new Set<number>()
-  const budget = { pixels: limits.maxTotalPixels, blocks: Math.floor(bytes.byteLength / 8) + 1 }
-  let offset = reader.u32(4)
+  const budget = { pixels: limits.maxTotalPixels, blocks: Math.floor(source.byteLength / 8) + 1 }
+  let offset = reader.u32(headView, 4)
   if (offset === 0) throw reader.corrupt('the file contains no image directory.')
   while (offset !== 0) {
     if (pages.length >= maxDirectories) {
@@ -180,25 +192,32 @@ export function readTiffDirectories(bytes: Uint8Array, fileName: string, limits:
     if (offset + 2 > reader.length) {
       throw reader.corrupt(`image directory ${pages.length + 1} starts at byte ${offset}, past the end of the file (truncated?).`)
     }
-    const entryCount = reader.u16(offset)
+    const entryCount = reader.u16(await reader.view(offset, 2), 0)
     const end = offset + 2 + entryCount * 12
     if (end + 4 > reader.length) {
       throw reader.corrupt(`image directory ${pages.length + 1} runs past the end of the file (truncated?).`)
     }
+    // The whole directory (entries and next-IFD offset) in one read; positions below are relative to `offset`.
+    const directory = await reader.view(offset, end + 4 - offset)
     const entries = new Map<number, Entry>()
     for (let i = 0; i < entryCount; i++) {
-      const at = offset + 2 + i * 12
-      const tag = reader.u16(at)
-      const type = reader.u16(at + 2)
-      const count = reader.u32(at + 4)
+      const at = 2 + i * 12
+      const tag = reader.u16(directory, at)
+      const type = reader.u16(directory, at + 2)
+      const count = reader.u32(directory, at + 4)
       const size = TYPE_SIZE[type]
       // Unknown field types are skipped (TIFF 6.0 asks readers to ignore them); so are tags we do not use.
       if (size === undefined) continue
-      const valueOffset = count * size <= 4 ? at + 8 : reader.u32(at + 8)
-      entries.set(tag, { type, count, valueOffset })
+      const inline = count * size <= 4
+      entries.set(tag, {
+        type,
+        count,
+        valueOffset: inline ? offset + at + 8 : reader.u32(directory, at + 8),
+        inline: inline ? new DataView(directory.buffer, directory.byteOffset + at + 8, 4) : null,
+      })
     }
-    pages.push(readPage(reader, entries, pages.length, limits, budget))
-    offset = reader.u32(end)
+    pages.push(await readPage(reader, entries, pages.length, limits, budget))
+    offset = reader.u32(directory, end - offset)
   }
   return { littleEndian, pages }
 }
@@ -208,19 +227,25 @@ interface WalkBudget {
   blocks: number
 }
 
-function readPage(reader: TiffReader, entries: Map<number, Entry>, index: number, limits: TiffWalkLimits, budget: WalkBudget): TiffPage {
+async function readPage(
+  reader: TiffReader,
+  entries: Map<number, Entry>,
+  index: number,
+  limits: TiffWalkLimits,
+  budget: WalkBudget,
+): Promise<TiffPage> {
   const page = index + 1
-  const single = (tag: number, fallback?: number): number => {
+  const single = async (tag: number, fallback?: number): Promise<number> => {
     const entry = entries.get(tag)
     if (entry === undefined || entry.count === 0) {
       if (fallback === undefined) throw reader.corrupt(`page ${page} lacks the required tag ${tag}.`)
       return fallback
     }
-    return reader.integers({ ...entry, count: 1 }, tag, index)[0]
+    return (await reader.integers({ ...entry, count: 1 }, tag, index))[0]
   }
 
-  const width = single(TAG.imageWidth)
-  const height = single(TAG.imageLength)
+  const width = await single(TAG.imageWidth)
+  const height = await single(TAG.imageLength)
   if (width < 1 || height < 1) throw reader.corrupt(`page ${page} declares a size of ${width} × ${height} pixels.`)
   const pixels = width * height
   if (pixels > limits.maxPixelsPerPage) {
@@ -238,19 +263,19 @@ function readPage(reader: TiffReader, entries: Map<number, Entry>, index: number
       `the pages hold more than ${limits.maxTotalPixels.toLocaleString('en')} pixels in total (the limit); split the stack.`,
     )
   }
-  const samplesPerPixel = single(TAG.samplesPerPixel, 1)
+  const samplesPerPixel = await single(TAG.samplesPerPixel, 1)
   if (samplesPerPixel < 1 || samplesPerPixel > MAX_SAMPLES_PER_PIXEL) {
     throw reader.corrupt(`page ${page} declares ${samplesPerPixel} samples per pixel.`)
   }
   // BitsPerSample and SampleFormat carry one value per sample; read no more than that.
-  const perSample = (entry: Entry | undefined, tag: number, fallback: number): number[] =>
+  const perSample = async (entry: Entry | undefined, tag: number, fallback: number): Promise<number[]> =>
     entry ? reader.integers({ ...entry, count: Math.min(entry.count, samplesPerPixel) }, tag, index) : [fallback]
-  const bitsList = perSample(entries.get(TAG.bitsPerSample), TAG.bitsPerSample, 1)
+  const bitsList = await perSample(entries.get(TAG.bitsPerSample), TAG.bitsPerSample, 1)
   const bitsPerSample = bitsList[0]
-  const formatList = perSample(entries.get(TAG.sampleFormat), TAG.sampleFormat, 1)
+  const formatList = await perSample(entries.get(TAG.sampleFormat), TAG.sampleFormat, 1)
   const sampleFormat = formatList[0]
   const mixed = bitsList.some((b) => b !== bitsPerSample) || formatList.some((f) => f !== sampleFormat)
-  const newSubfileType = single(TAG.newSubfileType, 0)
+  const newSubfileType = await single(TAG.newSubfileType, 0)
   const result: TiffPage = {
     ifdIndex: index,
     width,
@@ -259,17 +284,17 @@ function readPage(reader: TiffReader, entries: Map<number, Entry>, index: number
     // Mixed sample sizes are reported as bit depth 0 so that the caller rejects them as unsupported.
     bitsPerSample: mixed ? 0 : bitsPerSample,
     sampleFormat,
-    photometric: single(TAG.photometric, -1),
-    compression: single(TAG.compression, 1),
-    planarConfiguration: single(TAG.planarConfiguration, 1),
+    photometric: await single(TAG.photometric, -1),
+    compression: await single(TAG.compression, 1),
+    planarConfiguration: await single(TAG.planarConfiguration, 1),
     auxiliary: (newSubfileType & 0b101) !== 0,
   }
-  checkDataBlocks(reader, entries, result, budget)
+  await checkDataBlocks(reader, entries, result, budget)
   return result
 }
 
 /** Strip or tile offsets and byte counts: the right number of blocks, each inside the file, raw blocks complete. */
-function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: TiffPage, budget: WalkBudget): void {
+async function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: TiffPage, budget: WalkBudget): Promise<void> {
   const tiled = entries.has(TAG.tileOffsets)
   const planes = page.planarConfiguration === 2 ? page.samplesPerPixel : 1
   let blockWidth: number
@@ -277,20 +302,20 @@ function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: 
   let blocksAcross: number
   let blocksDown: number
   const number = page.ifdIndex + 1
-  const single = (tag: number, fallback: number): number => {
+  const single = async (tag: number, fallback: number): Promise<number> => {
     const entry = entries.get(tag)
-    return entry && entry.count > 0 ? reader.integers({ ...entry, count: 1 }, tag, page.ifdIndex)[0] : fallback
+    return entry && entry.count > 0 ? (await reader.integers({ ...entry, count: 1 }, tag, page.ifdIndex))[0] : fallback
   }
   if (tiled) {
-    blockWidth = single(TAG.tileWidth, 0)
-    blockHeight = single(TAG.tileLength, 0)
+    blockWidth = await single(TAG.tileWidth, 0)
+    blockHeight = await single(TAG.tileLength, 0)
     if (blockWidth < 1 || blockHeight < 1) throw reader.corrupt(`page ${number} declares tiles of ${blockWidth} × ${blockHeight}.`)
     blocksAcross = Math.ceil(page.width / blockWidth)
     blocksDown = Math.ceil(page.height / blockHeight)
   } else {
     // RowsPerStrip defaults to 2³²−1 ("the whole image in one strip").
     blockWidth = page.width
-    blockHeight = Math.min(page.height, Math.max(1, single(TAG.rowsPerStrip, page.height)))
+    blockHeight = Math.min(page.height, Math.max(1, await single(TAG.rowsPerStrip, page.height)))
     blocksAcross = 1
     blocksDown = Math.ceil(page.height / blockHeight)
   }
@@ -302,7 +327,7 @@ function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: 
   if (offsetsEntry.count < expectedBlocks) {
     throw reader.corrupt(`page ${number} lists ${offsetsEntry.count} data blocks; its size needs ${expectedBlocks}.`)
   }
-  const offsets = reader.integers({ ...offsetsEntry, count: expectedBlocks }, tiled ? TAG.tileOffsets : TAG.stripOffsets, page.ifdIndex)
+  const offsets = await reader.integers({ ...offsetsEntry, count: expectedBlocks }, tiled ? TAG.tileOffsets : TAG.stripOffsets, page.ifdIndex)
   const countsEntry = entries.get(tiled ? TAG.tileByteCounts : TAG.stripByteCounts)
   const bitsPerPixelPlane = page.bitsPerSample * (page.planarConfiguration === 2 ? 1 : page.samplesPerPixel)
   const rawBytes = (rows: number): number => Math.ceil((blockWidth * bitsPerPixelPlane) / 8) * rows
@@ -315,7 +340,7 @@ function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, page: 
     if (countsEntry.count < expectedBlocks) {
       throw reader.corrupt(`page ${number} lists ${countsEntry.count} byte counts; its size needs ${expectedBlocks}.`)
     }
-    counts = reader.integers({ ...countsEntry, count: expectedBlocks }, tiled ? TAG.tileByteCounts : TAG.stripByteCounts, page.ifdIndex)
+    counts = await reader.integers({ ...countsEntry, count: expectedBlocks }, tiled ? TAG.tileByteCounts : TAG.stripByteCounts, page.ifdIndex)
   }
   for (let i = 0; i < expectedBlocks; i++) {
     if (offsets[i] + counts[i] > reader.length) {
