@@ -32,6 +32,11 @@ export interface TiffPage {
   planarConfiguration: number
   /** NewSubfileType bit 0 (reduced-resolution copy, e.g. a thumbnail) or bit 2 (transparency mask). */
   auxiliary: boolean
+  /**
+   * Where an uncompressed, stripped, one-sample page keeps its rows (strip k holds rows k·rowsPerStrip …), checked to
+   * lie inside the file and to be complete; absent for every other layout. Lets the decoder copy rows directly.
+   */
+  rawStrips?: { offsets: number[]; rowsPerStrip: number }
 }
 
 export interface TiffLayout {
@@ -342,6 +347,7 @@ async function checkDataBlocks(reader: TiffReader, entries: Map<number, Entry>, 
     }
     counts = await reader.integers({ ...countsEntry, count: expectedBlocks }, tiled ? TAG.tileByteCounts : TAG.stripByteCounts, page.ifdIndex)
   }
+  if (page.compression === 1 && !tiled && page.samplesPerPixel === 1) page.rawStrips = { offsets, rowsPerStrip: blockHeight }
   for (let i = 0; i < expectedBlocks; i++) {
     if (offsets[i] + counts[i] > reader.length) {
       throw reader.corrupt(

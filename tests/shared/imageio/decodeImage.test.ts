@@ -188,6 +188,32 @@ describe('decodeImage of hand-built TIFF layouts', () => {
     expect(Array.from(frames[0].data)).toEqual([0x0102, 0xfffe, 0x0007, 0x8000])
   })
 
+  it('When the strips of an uncompressed page are stored out of order, then each row comes from its own strip', async () => {
+    // Two 16-bit rows of 2 px, one strip per row; strip 0 (row 0) is stored after strip 1 in the file.
+    const data = new Uint8Array([0x10, 0x00, 0x20, 0x00, 0x01, 0x00, 0x02, 0x00])
+    const entries = withEntry(withEntry(withEntry(greyEntries(2, 2, 16), [273, 4, [12, 8]]), [278, 4, [1]]), [279, 4, [4, 4]])
+    const { frames } = await decodeImage(handTiff([entries], data), 'strips.tif')
+    expect(Array.from(frames[0].data)).toEqual([1, 2, 0x10, 0x20])
+  })
+
+  it('When an uncompressed 16-bit page is WhiteIsZero, then values are inverted to the full 16-bit range', async () => {
+    const data = new Uint8Array([0x00, 0x00, 0xff, 0xff, 0x34, 0x12, 0x00, 0x80])
+    const { frames } = await decodeImage(handTiff([withEntry(greyEntries(2, 2, 16), [262, 3, [0]])], data), 'white.tif')
+    expect(Array.from(frames[0].data)).toEqual([65535, 0, 65535 - 0x1234, 65535 - 0x8000])
+  })
+
+  it('When an uncompressed page holds 32-bit floats, then the floats are read in the file\'s byte order', async () => {
+    const values = [1.5, -2.25, 1e-3, 65536.5]
+    for (const littleEndian of [true, false]) {
+      const data = new Uint8Array(16)
+      values.forEach((v, i) => new DataView(data.buffer).setFloat32(4 * i, v, littleEndian))
+      const bytes = handTiff([withEntry(greyEntries(2, 2, 32), [339, 3, [3]])], data, { littleEndian })
+      const { frames } = await decodeImage(bytes, 'float.tif')
+      expect(frames[0].data).toBeInstanceOf(Float32Array)
+      expect(Array.from(frames[0].data)).toEqual(values.map(Math.fround))
+    }
+  })
+
   it('When the TIFF is 8-bit RGB, then each pixel is the BT.601 luminance, rounded', async () => {
     const rgb = [255, 0, 0, 0, 255, 0, 0, 0, 255, 90, 90, 90]
     const entries = greyEntries(4, 1, 8).map((e): Entry => (e[0] === 258 ? [258, 3, [8, 8, 8]] : e[0] === 279 ? [279, 4, [12]] : e))
