@@ -97,16 +97,23 @@ function sampledGaussian(image: Frame, sigma: number, xs: Int32Array, ys: Int32A
   // The float32 value of each input sample, as gaussianBlur converts integer frames.
   const f = Math.fround
   const rows = new Float32Array(height * nx)
+  const taps = kernel.length
   for (let y = 0; y < height; y++) {
     const row = y * width
     for (let i = 0; i < nx; i++) {
       const x = xs[i]
       let acc = 0
-      for (let k = -radius; k <= radius; k++) {
-        let xx = x + k
-        if (xx < 0) xx = 0
-        else if (xx >= width) xx = width - 1
-        acc += f(data[row + xx]) * kernel[k + radius]
+      if (x >= radius && x + radius < width) {
+        // Interior sample: no tap needs the edge clamp (same taps, same order).
+        const first = row + x - radius
+        for (let k = 0; k < taps; k++) acc += f(data[first + k]) * kernel[k]
+      } else {
+        for (let k = -radius; k <= radius; k++) {
+          let xx = x + k
+          if (xx < 0) xx = 0
+          else if (xx >= width) xx = width - 1
+          acc += f(data[row + xx]) * kernel[k + radius]
+        }
       }
       rows[y * nx + i] = acc
     }

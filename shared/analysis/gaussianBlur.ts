@@ -35,9 +35,25 @@ function convolveRows(src: Float32Array, dst: Float32Array, width: number, heigh
       convolveRowInterior7(src, dst, row, width, kernel)
       convolveRowEdges(src, dst, row, width, kernel, 0, 3)
       convolveRowEdges(src, dst, row, width, kernel, width - 3, width)
+    } else if (width > 2 * radius) {
+      convolveRowInterior(src, dst, row, width, kernel)
+      convolveRowEdges(src, dst, row, width, kernel, 0, radius)
+      convolveRowEdges(src, dst, row, width, kernel, width - radius, width)
     } else {
       convolveRowEdges(src, dst, row, width, kernel, 0, width)
     }
+  }
+}
+
+/** Pixels radius..width−radius−1 of one row, whose taps all lie inside the row (any radius, same sum order). */
+function convolveRowInterior(src: Float32Array, dst: Float32Array, row: number, width: number, kernel: Float32Array): void {
+  const radius = (kernel.length - 1) >> 1
+  const taps = kernel.length
+  for (let i = row + radius, end = row + width - radius; i < end; i++) {
+    let acc = 0
+    const first = i - radius
+    for (let k = 0; k < taps; k++) acc += src[first + k] * kernel[k]
+    dst[i] = acc
   }
 }
 
