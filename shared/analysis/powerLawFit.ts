@@ -8,7 +8,8 @@
  * - discrete, exact: maximise ℓ(α) = −n·ln ζ(α, x_min) − α·Σ ln x_i (golden-section search; ℓ is concave in α because
  *   ln ζ is a log-partition function); standard error 1/√(n·∂²ln ζ/∂α²) by a central difference;
  * - discrete, approximate: α̂ ≈ 1 + n·[Σ ln(x_i/(x_min − ½))]⁻¹, adequate for x_min ≳ 6 [M for the "≳ 6"];
- * - x_min: every distinct value except the largest is a candidate; the one with the smallest KS distance
+ * - x_min: every distinct value except the largest is a candidate (those leaving a tail of ≥ MIN_SCAN_TAIL = 50 values,
+ *   when there are any: tiny tails fit themselves); the one with the smallest KS distance
  *   D = max |S(x) − P(x)| over the tail wins (continuous: supremum over both sides of each ECDF step; discrete: at the
  *   distinct values, as in the authors' code [from memory]); ties keep the smaller x_min;
  * - goodness of fit: semi-parametric bootstrap (their §4.1): each synthetic set has the original size, every value
@@ -260,8 +261,16 @@ function candidateStarts(x: Float64Array): number[] {
   return starts
 }
 
+/**
+ * Shortest tail an x_min candidate may leave when the data allow one this long. A tail of a handful of values fits
+ * itself (D → 0) and would win the KS scan with a meaningless α̂ (METHODS §5.4 pitfalls: n_tail < ~50 [P]).
+ */
+export const MIN_SCAN_TAIL = 50
+
 function scanXMin(data: PreparedData, method: Method): TailFit | null {
-  const starts = candidateStarts(data.x)
+  const all = candidateStarts(data.x)
+  const long = all.filter((start) => data.x.length - start >= MIN_SCAN_TAIL)
+  const starts = long.length > 0 ? long : all
   let best: TailFit | null = null
   const consider = (start: number) => {
     const xMin = data.x[start]

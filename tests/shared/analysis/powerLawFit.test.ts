@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { fitPowerLaw, hurwitzZeta } from '@shared/analysis/powerLawFit'
+import { fitPowerLaw, hurwitzZeta, MIN_SCAN_TAIL } from '@shared/analysis/powerLawFit'
 import { createRandom } from '@shared/analysis/seededRandom'
 
 /** Continuous power law above xMin by the inverse CDF x = xMin·(1 − u)^(−1/(α−1)) (METHODS §5.4 [D]). */
@@ -198,5 +198,23 @@ describe('fitPowerLaw, degenerate input', () => {
     const dirty = fitPowerLaw([1, 2, 0, -4, Number.NaN, 4, 8], { xMin: 1, bootstrap: 0 })
     expect(dirty.alpha).toBe(clean.alpha)
     expect(dirty.n).toBe(4)
+  })
+})
+
+describe('fitPowerLaw x_min scan and tiny tails', () => {
+  it('When two large values sit above a power-law body, then the scan does not pick their two-value tail', () => {
+    // Constructed: 400 quantiles of a discrete-ish power law (x = ⌊10·(1−u)^(−1/1.5)⌋, u on a regular grid) plus two
+    // outliers far above; a two-value tail fits itself (D → 0), which METHODS §5.4 warns makes α̂ meaningless [P].
+    const body = Array.from({ length: 400 }, (_, k) => Math.floor(10 * Math.pow(1 - (k + 0.5) / 400, -1 / 1.5)))
+    const fit = fitPowerLaw([...body, 50_000, 50_001], { discrete: true, bootstrap: 0 })
+    expect(fit.nTail).toBeGreaterThanOrEqual(MIN_SCAN_TAIL)
+    expect(fit.alpha).toBeGreaterThan(2)
+    expect(fit.alpha).toBeLessThan(3.2)
+  })
+
+  it('When fewer values than the shortest allowed tail are given, then every candidate is still scanned', () => {
+    const fit = fitPowerLaw([1, 2, 3, 5, 8, 13, 21, 34], { discrete: true, bootstrap: 0 })
+    expect(fit.alpha).not.toBeNull()
+    expect(fit.nTail).toBeLessThan(MIN_SCAN_TAIL)
   })
 })
