@@ -4,20 +4,18 @@
  */
 import { statSync } from 'node:fs'
 import { fileURLToPath, pathToFileURL } from 'node:url'
-import type { Sequelize } from 'sequelize'
 import { loadConfig } from '../server/config'
 import { createDeps } from '../server/runtime'
 import { defineModels } from '../server/models'
 import { hashPassword } from '../server/auth/passwords'
 import { loadSessionUser } from '../server/auth/sessionUser'
-import { createImageService } from '../server/services/imageService'
-import type { ObjectStore } from '../server/storage/objectStore'
+import { createImageService, type ImageServiceDeps } from '../server/services/imageService'
 import { DEMO_IMAGES, DEMO_LAB, DEMO_PASSWORD, DEMO_PEOPLE, DEMO_PROJECTS } from './demoScenario'
 
 const SAMPLES_DIR = fileURLToPath(new URL('../samples/', import.meta.url))
 
 /** Seed the demo lab into an already-migrated database; returns false when it was there already. */
-export async function seedDemoLab(deps: { sequelize: Sequelize; store: ObjectStore }): Promise<boolean> {
+export async function seedDemoLab(deps: ImageServiceDeps): Promise<boolean> {
   const { sequelize } = deps
   const { Lab, User, Membership, Project, Sample } = defineModels(sequelize)
   const existing = await Lab.findOne({ where: { name: DEMO_LAB.name } })
@@ -45,7 +43,7 @@ export async function seedDemoLab(deps: { sequelize: Sequelize; store: ObjectSto
   return true
 }
 
-async function seedDemoImages(deps: { sequelize: Sequelize; store: ObjectStore }, labId: number): Promise<void> {
+async function seedDemoImages(deps: ImageServiceDeps, labId: number): Promise<void> {
   const { User, Project, Sample, Frame } = defineModels(deps.sequelize)
   const personId = async (role: string) => (await User.findOne({ where: { email: DEMO_PEOPLE.find((p) => p.role === role)!.email } }))!.id
   const microscopistId = await personId('microscopist')

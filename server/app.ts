@@ -17,6 +17,7 @@ import { createSessionMiddleware } from './auth/session'
 import { configurePassport } from './auth/passport'
 import { csrfProtection } from './auth/csrf'
 import { installRequestLimits } from './http/requestLimits'
+import { openUploadTempFolder } from './http/uploadTempFolder'
 import { createApiDefinition, openApiDocument } from './openapi/apiRoute'
 import { registerHealthRoutes } from './routes/health'
 import { registerAuthRoutes } from './routes/auth'
@@ -28,6 +29,7 @@ import { createImageService } from './services/imageService'
 import { registerAnnotationRoutes } from './routes/annotations'
 import { createAnnotationService } from './services/annotationService'
 import type { MaskMeasurer } from './analysis/maskMeasurer'
+import type { LazyAnalysisPool } from './analysis/lazyAnalysisPool'
 import type { JobQueue } from './jobs/jobQueue'
 import { registerStackRunRoutes } from './routes/stackRuns'
 import { createStackRunService } from './services/stackRunService'
@@ -57,6 +59,8 @@ export interface AppDeps {
   store: ObjectStore
   mailer: Mailer
   measurer: MaskMeasurer
+  /** The web server's worker threads (mask measurements, upload previews). */
+  analysisPool: LazyAnalysisPool
   jobs: JobQueue
 }
 
@@ -108,7 +112,8 @@ export function createApp(deps: AppDeps) {
   registerLabRoutes(api)
   registerProjectRoutes(api)
   const images = createImageService(deps)
-  registerImageRoutes(api, images, config.maxUploadBytes)
+  const uploadFolder = openUploadTempFolder(config.uploadTmpDir)
+  registerImageRoutes(api, images, { maxBytes: config.maxUploadBytes, folder: uploadFolder })
   registerStackRunRoutes(api, createStackRunService({ ...deps, images }), deps.store)
   const annotations = createAnnotationService(deps)
   registerAnnotationRoutes(api, annotations)
@@ -133,10 +138,11 @@ export function createApp(deps: AppDeps) {
 
   app.use(errorHandler)
   const close = async () => {
+    uploadFolder.close()
     await sessions.close()
     await motion.close()
   }
-  return { app, apiRouter: api.router, openApi: document, close }
+  return { app, apiRouter: api.router, openApi: document, uploadFolder, close }
 }
 
 /** Turns errors into `{ error: { code, message } }`. Database outages become 503 with a clear message. */

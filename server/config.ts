@@ -4,6 +4,8 @@
  * app at a real service with no code change.
  */
 import { randomBytes } from 'node:crypto'
+import { availableParallelism, tmpdir } from 'node:os'
+import path from 'node:path'
 
 export interface AppConfig {
   port: number
@@ -28,6 +30,16 @@ export interface AppConfig {
   loginRateLimit: { windowMs: number; max: number }
   /** Largest accepted upload per file, bytes (MAX_UPLOAD_MB). */
   maxUploadBytes: number
+  /**
+   * Folder for upload parts while a request runs (UPLOAD_TMP_DIR). Parts a killed server left behind are removed by
+   * age (server/http/uploadTempFolder.ts), so several servers may share it.
+   */
+  uploadTmpDir: string
+  /**
+   * Worker threads of the web server for upload previews and mask measurements (ANALYSIS_THREADS). Default: one core
+   * less than the machine has (at least 1, at most 2), so a core stays free for the requests themselves.
+   */
+  analysisThreads: number
   /** Days a deleted image or project can be restored before the sweep removes it for good (DELETE_RETENTION_DAYS). */
   deleteRetentionDays: number
   production: boolean
@@ -90,6 +102,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       max: intFromEnv('LOGIN_RATE_MAX', 20),
     },
     maxUploadBytes: intFromEnv('MAX_UPLOAD_MB', 2048) * 1024 * 1024,
+    uploadTmpDir: path.resolve(process.env.UPLOAD_TMP_DIR || path.join(tmpdir(), 'remanence-uploads')),
+    analysisThreads: positiveIntFromEnv('ANALYSIS_THREADS', Math.max(1, Math.min(2, availableParallelism() - 1))),
     deleteRetentionDays: positiveIntFromEnv('DELETE_RETENTION_DAYS', 30),
     production,
     ...overrides,

@@ -1,4 +1,4 @@
-/** Wires the app's dependencies from a configuration: database + models, object store, mailer. */
+/** Wires the app's dependencies from a configuration: database + models, object store, mailer, analysis threads. */
 import type { Sequelize } from 'sequelize'
 import { createSequelize } from './db'
 import { defineModels } from './models'
@@ -7,6 +7,7 @@ import { createMailer } from './mail/mailer'
 import type { AppConfig } from './config'
 import type { AppDeps } from './app'
 import { createPoolMeasurer } from './analysis/poolMeasurer'
+import { createLazyAnalysisPool } from './analysis/lazyAnalysisPool'
 import { createJobQueue } from './jobs/jobQueue'
 
 /**
@@ -18,7 +19,8 @@ export function createDeps(config: AppConfig, options: { sequelize?: Sequelize }
   defineModels(sequelize)
   const store = createObjectStore(config.s3)
   const mailer = createMailer(config.smtpUrl, config.mailFrom)
-  const measurer = createPoolMeasurer()
+  const analysisPool = createLazyAnalysisPool(config.analysisThreads)
+  const measurer = createPoolMeasurer(analysisPool)
   const jobs = createJobQueue(config.databaseUrl)
   return {
     config,
@@ -26,12 +28,13 @@ export function createDeps(config: AppConfig, options: { sequelize?: Sequelize }
     store,
     mailer,
     measurer,
+    analysisPool,
     jobs,
     async dispose() {
       await jobs.close()
       store.close()
       mailer.close()
-      await measurer.close()
+      await analysisPool.close()
       if (!options.sequelize) await sequelize.close()
     },
   }

@@ -1,7 +1,8 @@
 /**
  * The messages between the analysis pool (server/analysis/analysisPool.ts) and its worker threads
- * (analysisWorker.ts). Everything here survives the structured clone; masks and histograms travel as transferred
- * buffers, file bytes as one SharedArrayBuffer per file.
+ * (analysisWorker.ts). Everything here survives the structured clone; masks, histograms and rendered frames travel as
+ * transferred buffers, file bytes as one SharedArrayBuffer per file (or, for a file on disk, its path: each worker
+ * reads the ranges it needs).
  */
 import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
@@ -33,6 +34,13 @@ export interface FrameTaskContext {
   detail?: boolean
 }
 
+/** A frame's derivatives as ingest stores them: preview and thumbnail PNGs, and its raw little-endian pixels. */
+export interface RenderedFrame {
+  preview: Uint8Array
+  thumbnail: Uint8Array
+  pixels: Uint8Array
+}
+
 /** The work a worker can be given; frame tasks name a shared file and a 0-based frame index. */
 export type AnalysisTask =
   | { kind: 'probe'; fileId: number }
@@ -43,6 +51,7 @@ export type AnalysisTask =
   | { kind: 'analyzeFrame'; fileId: number; index: number; recipe: AnalysisRecipe; context: FrameTaskContext }
   | { kind: 'measureMask'; mask: BinaryMask; context: MaskMeasureContext }
   | { kind: 'motion'; fileId: number; recipe: AnalysisRecipe; rows: MotionRow[]; options: MotionOptions }
+  | { kind: 'render'; fileId: number; index: number }
 
 /** What each task kind returns. */
 export interface AnalysisTaskResults {
@@ -54,11 +63,13 @@ export interface AnalysisTaskResults {
   analyzeFrame: FrameAnalysis
   measureMask: { measurements: FrameMeasurements; distributions?: FrameDistributions }
   motion: MotionAnalysis
+  render: RenderedFrame
 }
 
 /** Pool → worker. Messages on one port arrive in order, so a task always finds the files shared before it. */
 export type WorkerRequest =
   | { type: 'share'; fileId: number; buffer: SharedArrayBuffer; byteLength: number; fileName: string; limits?: Partial<DecodeLimits> }
+  | { type: 'open'; fileId: number; path: string; fileName: string; limits?: Partial<DecodeLimits> }
   | { type: 'release'; fileId: number }
   | { type: 'task'; id: number; task: AnalysisTask }
 

@@ -1,12 +1,14 @@
 /**
  * A pool of worker threads that runs the analysis engine off the main thread: the three stack passes of
  * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast), single-frame analysis,
- * measurements of a saved mask, and whole motion series (shared/analysis/analyzeMotion.ts, one series per worker).
+ * measurements of a saved mask, whole motion series (shared/analysis/analyzeMotion.ts, one series per worker), and the
+ * display derivatives of uploaded frames (frameRendering.ts).
  *
- * File bytes are copied once into a SharedArrayBuffer and shared with every worker (`shareFile`); each task then names
- * a frame index and the worker decodes that frame itself. Results come back by frame index whatever order the workers
- * finish in; masks and histograms are transferred, not copied. A frame that fails (damaged data) is reported with its
- * index and the others are kept; a worker that dies is replaced, so the pool stays usable.
+ * File bytes are copied once into a SharedArrayBuffer and shared with every worker (`shareFile`), or, for a file too
+ * large to hold (an upload), each worker opens it by path and reads the ranges it needs (`openFile`); each task then
+ * names a frame index and the worker decodes that frame itself. Results come back by frame index whatever order the
+ * workers finish in; masks, histograms and rendered frames are transferred, not copied. A frame that fails (damaged
+ * data) is reported with its index and the others are kept; a worker that dies is replaced, so the pool stays usable.
  *
  * Workers run the TypeScript sources through analysisWorkerBootstrap.mjs, which registers tsx in the worker thread
  * (Node 20 does not pass the parent's loader hooks to workers), so this works under `tsx` and under vitest alike.
@@ -19,9 +21,9 @@ import type { BinaryMask } from '../../shared/analysis/types'
 import type { MotionAnalysis, MotionOptions } from '../../shared/analysis/analyzeMotion'
 import type { MotionRow } from '../../shared/analysis/wallVelocity'
 import type { DecodeLimits, ImageHeader } from '../../shared/imageio/decodeImage'
-import type { AnalysisTask, AnalysisTaskResults, FrameTaskContext, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
+import type { AnalysisTask, AnalysisTaskResults, FrameTaskContext, MaskMeasureContext, RenderedFrame, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
 
-export type { FrameTaskContext, MaskMeasureContext } from './analysisMessages'
+export type { FrameTaskContext, MaskMeasureContext, RenderedFrame } from './analysisMessages'
 
 export interface AnalysisPoolOptions {
   /** Worker threads; default os.availableParallelism(). */
@@ -59,6 +61,11 @@ export interface AnalysisPool {
    * worker; release it when done.
    */
   shareFile(bytes: Uint8Array, fileName: string, limits?: Partial<DecodeLimits>): SharedFile
+  /**
+   * Let every worker read the file at `path` range by range, without holding it: each opens it when told and closes it
+   * on release. For files on the server's disk (uploads); a path that cannot be opened fails each task on the file.
+   */
+  openFile(path: string, fileName: string, limits?: Partial<DecodeLimits>): SharedFile
   releaseFile(file: SharedFile): void
   /** The file's header (format, size, frame count, calibration), read in a worker. */
   probe(file: SharedFile): Promise<ImageHeader>
@@ -76,6 +83,8 @@ export interface AnalysisPool {
   measureMask(mask: BinaryMask, context: MaskMeasureContext): Promise<{ measurements: FrameMeasurements; distributions?: FrameDistributions }>
   /** A whole motion series (every frame of the file) through shared/analysis/analyzeMotion in one worker. */
   analyzeMotion(file: SharedFile, recipe: AnalysisRecipe, rows: MotionRow[], options: MotionOptions): Promise<MotionAnalysis>
+  /** Decode one frame and render its preview and thumbnail (frameRendering.ts); the buffers are transferred, not copied. */
+  renderFrame(file: SharedFile, index: number): Promise<RenderedFrame>
   /** Stop every worker; tasks still queued or running are rejected. */
   close(): Promise<void>
 }
@@ -97,9 +106,9 @@ interface PoolWorker {
   failure: Error | null
 }
 
+/** A file the workers can read: bytes in shared memory, or a path each worker opens. */
 interface SharedBytes {
-  buffer: SharedArrayBuffer
-  byteLength: number
+  bytes: { buffer: SharedArrayBuffer; byteLength: number } | { path: string }
   fileName: string
   limits?: Partial<DecodeLimits>
 }
@@ -125,8 +134,17 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     entry.worker.postMessage(message)
   }
 
-  function shareMessage(id: number, bytes: SharedBytes): WorkerRequest {
-    return { type: 'share', fileId: id, buffer: bytes.buffer, byteLength: bytes.byteLength, fileName: bytes.fileName, limits: bytes.limits }
+  function shareMessage(id: number, file: SharedBytes): WorkerRequest {
+    const { bytes, fileName, limits } = file
+    return 'path' in bytes ? { type: 'open', fileId: id, path: bytes.path, fileName, limits } : { type: 'share', fileId: id, buffer: bytes.buffer, byteLength: bytes.byteLength, fileName, limits }
+  }
+
+  function addFile(entry: SharedBytes): SharedFile {
+    if (closed) throw new Error('The analysis pool is closed.')
+    const id = nextFileId++
+    shared.set(id, entry)
+    for (const worker of workers) post(worker, shareMessage(id, entry))
+    return { id, fileName: entry.fileName }
   }
 
   function spawn(): PoolWorker {
@@ -169,7 +187,7 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
       // Replace the dead worker and give it the files the others have, so queued tasks still run.
       const replacement = spawn()
       workers[index] = replacement
-      for (const [id, bytes] of shared) post(replacement, shareMessage(id, bytes))
+      for (const [id, file] of shared) post(replacement, shareMessage(id, file))
       dispatch()
     })
     return entry
@@ -213,16 +231,14 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
       await Promise.all(workers.map((w) => w.ready))
     },
     shareFile(bytes, fileName, limits) {
-      if (closed) throw new Error('The analysis pool is closed.')
       // Bytes already in shared memory (e.g. read straight into a SharedArrayBuffer) are shared as they are.
       const alreadyShared = bytes.buffer instanceof SharedArrayBuffer && bytes.byteOffset === 0 && bytes.byteLength === bytes.buffer.byteLength
       const buffer = alreadyShared ? (bytes.buffer as SharedArrayBuffer) : new SharedArrayBuffer(bytes.byteLength)
       if (!alreadyShared) new Uint8Array(buffer).set(bytes)
-      const id = nextFileId++
-      const entry: SharedBytes = { buffer, byteLength: bytes.byteLength, fileName, limits }
-      shared.set(id, entry)
-      for (const worker of workers) post(worker, shareMessage(id, entry))
-      return { id, fileName }
+      return addFile({ bytes: { buffer, byteLength: bytes.byteLength }, fileName, limits })
+    },
+    openFile(path, fileName, limits) {
+      return addFile({ bytes: { path }, fileName, limits })
     },
     releaseFile(file) {
       if (!shared.delete(file.id) || closed) return
@@ -251,6 +267,9 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     },
     analyzeMotion(file, recipe, rows, options) {
       return run<'motion'>({ kind: 'motion', fileId: file.id, recipe, rows, options })
+    },
+    renderFrame(file, index) {
+      return run<'render'>({ kind: 'render', fileId: file.id, index })
     },
     async close() {
       if (closed) return

@@ -1,24 +1,32 @@
 /**
- * One analysis worker thread: decodes the frames it is given from the shared file bytes and runs the per-frame passes
- * of shared/analysis/analyzeStack.ts on them, measures a mask, or analyses a whole motion series. Started by
- * analysisPool.ts through analysisWorkerBootstrap.mjs (which registers tsx so this TypeScript file loads).
+ * One analysis worker thread: decodes the frames it is given from the shared file bytes (or from a file on disk, range
+ * by range) and runs the per-frame passes of shared/analysis/analyzeStack.ts on them, measures a mask, analyses a whole
+ * motion series, or renders an uploaded frame's preview and thumbnail. Started by analysisPool.ts through
+ * analysisWorkerBootstrap.mjs (which registers tsx so this TypeScript file loads).
  *
- * Frames are decoded on demand with decodeFrame, which keeps the parsed TIFF structure per byte array, so a stack is
- * parsed once per worker. Only the reference frame and the registration anchor (frame 0) are kept decoded, because
- * every frame of a stack needs them; the identical object is then also used when that frame itself is analysed, as
- * analyzeStack does with its frame list.
+ * Frames are decoded on demand with decodeFrame, which keeps the parsed TIFF structure per input (byte array or open
+ * file), so a stack is parsed once per worker. Only the reference frame and the registration anchor (frame 0) are kept
+ * decoded, because every frame of a stack needs them; the identical object is then also used when that frame itself is
+ * analysed, as analyzeStack does with its frame list.
  */
+import { setFlagsFromString } from 'node:v8'
+import { runInNewContext } from 'node:vm'
 import { parentPort } from 'node:worker_threads'
 import { analyzeFrame, measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { frameContrastPass, frameHistogramPass, frameMeasurePass, rawRange } from '../../shared/analysis/analyzeStack'
 import { analyzeMotion } from '../../shared/analysis/analyzeMotion'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
-import { decodeFrame, probeImage, type DecodeLimits } from '../../shared/imageio/decodeImage'
-import type { AnalysisTask, MaskMeasureContext, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
+import { decodeFrame, probeImage, type DecodeLimits, type ImageInput } from '../../shared/imageio/decodeImage'
+import { openFileByteSource } from '../storage/fileByteSource'
+import type { AnalysisTask, MaskMeasureContext, RenderedFrame, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
+import { renderFrame } from './frameRendering'
 
 interface SharedFile {
-  bytes: Uint8Array
+  /** The bytes in shared memory, or the file on disk opened when it was shared (one object, so its parse is cached). */
+  input: Promise<ImageInput>
+  /** Closes the file on disk; nothing to do for shared memory. */
+  close(): Promise<void>
   fileName: string
   limits?: Partial<DecodeLimits>
   /** Decoded reference and anchor frames by index. */
@@ -29,6 +37,10 @@ const port = parentPort
 if (port === null) throw new Error('analysisWorker.ts must run in a worker thread (use createAnalysisPool).')
 
 const files = new Map<number, SharedFile>()
+
+/** ArrayBuffer memory above which a rendering thread collects its garbage (see collectRenderGarbage). */
+const RENDER_GARBAGE_LIMIT_BYTES = 32 * 1024 * 1024
+let collectGarbage: (() => void) | null = null
 
 function fileFor(fileId: number): SharedFile {
   const file = files.get(fileId)
@@ -41,10 +53,14 @@ function keptIndices(recipe: AnalysisRecipe): { reference: number | null; anchor
   return { reference: recipe.background === 'reference' ? (recipe.referenceFrame ?? 0) : null, anchor: recipe.registerFrames ? 0 : null }
 }
 
+function decodeSharedFrame(file: SharedFile, index: number): Promise<GrayImage> {
+  return file.input.then((input) => decodeFrame(input, file.fileName, index, file.limits))
+}
+
 function keptFrame(file: SharedFile, index: number): Promise<GrayImage> {
   let frame = file.kept.get(index)
   if (frame === undefined) {
-    frame = decodeFrame(file.bytes, file.fileName, index, file.limits)
+    frame = decodeSharedFrame(file, index)
     // A failed decode is not kept, so the error is reported again (with its frame) rather than cached.
     frame.catch(() => file.kept.delete(index))
     file.kept.set(index, frame)
@@ -60,14 +76,15 @@ async function frameWithContext(fileId: number, index: number, recipe: AnalysisR
     reference: reference === null ? undefined : await keptFrame(file, reference),
     registrationAnchor: anchor === null ? undefined : await keptFrame(file, anchor),
   }
-  const image = index === reference || index === anchor ? await keptFrame(file, index) : await decodeFrame(file.bytes, file.fileName, index, file.limits)
+  const image = index === reference || index === anchor ? await keptFrame(file, index) : await decodeSharedFrame(file, index)
   return { image, context }
 }
 
 /** A typed array whose buffer can be transferred without detaching anything else (copied when it is a view). */
 function ownArray<T extends Uint8Array | Uint32Array>(array: T): T {
   if (array.byteOffset === 0 && array.byteLength === array.buffer.byteLength && array.buffer instanceof ArrayBuffer) return array
-  return array.slice() as T
+  // Copied by the constructor: a Buffer's slice() would be another view of Node's shared pool, not a copy.
+  return (array instanceof Uint32Array ? new Uint32Array(array) : new Uint8Array(array)) as T
 }
 
 function ownMask(mask: BinaryMask, transfer: ArrayBuffer[]): BinaryMask {
@@ -82,6 +99,34 @@ function ownMask(mask: BinaryMask, transfer: ArrayBuffer[]): BinaryMask {
   return out
 }
 
+/** The frame's derivatives, each in a buffer of its own, ready to transfer. */
+async function renderedFrame(frame: GrayImage, transfer: ArrayBuffer[]): Promise<RenderedFrame> {
+  const { preview, thumbnail } = await renderFrame(frame)
+  const { data } = frame
+  const rendered = { preview: ownArray(preview), thumbnail: ownArray(thumbnail), pixels: ownArray(new Uint8Array(data.buffer, data.byteOffset, data.byteLength)) }
+  transfer.push(rendered.preview.buffer as ArrayBuffer, rendered.thumbnail.buffer as ArrayBuffer, rendered.pixels.buffer as ArrayBuffer)
+  return rendered
+}
+
+/**
+ * Rendering leaves about 10 MB of dead buffers per frame (strip reads, jimp's PNG encoder and resize). V8 frees a
+ * thread's dead ArrayBuffers only once some 64 MB of them have piled up, and what a worker thread frees stays with that
+ * thread's allocator, so each rendering thread would add 60–90 MB to the server during one large upload (npm run
+ * bench:upload). A full collection whenever the thread holds more than RENDER_GARBAGE_LIMIT_BYTES keeps it near that,
+ * for one collection every few frames. Worker threads take no --expose-gc flag of their own, so the collector is exposed
+ * for this thread at run time, on first need.
+ */
+function collectRenderGarbage(): void {
+  if (process.memoryUsage().arrayBuffers < RENDER_GARBAGE_LIMIT_BYTES) return
+  if (collectGarbage === null) {
+    setFlagsFromString('--expose-gc')
+    const exposed: unknown = runInNewContext('typeof gc === "function" ? gc : undefined')
+    // Should a Node version refuse the flag, rendering goes on as before, only with the larger footprint.
+    collectGarbage = typeof exposed === 'function' ? (exposed as () => void) : () => {}
+  }
+  collectGarbage()
+}
+
 function measureContextImage(context: MaskMeasureContext): FloatImage | GrayImage | undefined {
   if (context.image !== undefined) return context.image
   if (context.frame === undefined || context.recipe === undefined) return undefined
@@ -93,12 +138,10 @@ async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unk
   switch (task.kind) {
     case 'probe': {
       const file = fileFor(task.fileId)
-      return probeImage(file.bytes, file.fileName, file.limits)
+      return probeImage(await file.input, file.fileName, file.limits)
     }
-    case 'rawRange': {
-      const file = fileFor(task.fileId)
-      return rawRange(await decodeFrame(file.bytes, file.fileName, task.index, file.limits))
-    }
+    case 'rawRange':
+      return rawRange(await decodeSharedFrame(fileFor(task.fileId), task.index))
     case 'histogram': {
       const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
       const histogram = ownArray(frameHistogramPass(image, task.recipe, task.range, context))
@@ -132,11 +175,13 @@ async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unk
     case 'motion': {
       // A motion series is registered and thresholded as a whole, so one worker decodes every frame of it.
       const file = fileFor(task.fileId)
-      const { frameCount } = await probeImage(file.bytes, file.fileName, file.limits)
+      const { frameCount } = await probeImage(await file.input, file.fileName, file.limits)
       const frames: GrayImage[] = []
-      for (let index = 0; index < frameCount; index++) frames.push(await decodeFrame(file.bytes, file.fileName, index, file.limits))
+      for (let index = 0; index < frameCount; index++) frames.push(await decodeSharedFrame(file, index))
       return analyzeMotion(frames, task.recipe, task.rows, task.options)
     }
+    case 'render':
+      return renderedFrame(await decodeSharedFrame(fileFor(task.fileId), task.index), transfer)
   }
 }
 
@@ -156,15 +201,26 @@ function reply(message: WorkerResponse, transfer: ArrayBuffer[] = []): void {
 // Tasks run one at a time per worker (the pool sends the next only after a result), so no task waits on another.
 port.on('message', (message: WorkerRequest) => {
   if (message.type === 'share') {
-    files.set(message.fileId, { bytes: new Uint8Array(message.buffer, 0, message.byteLength), fileName: message.fileName, limits: message.limits, kept: new Map() })
+    const bytes = new Uint8Array(message.buffer, 0, message.byteLength)
+    files.set(message.fileId, { input: Promise.resolve(bytes), close: async () => {}, fileName: message.fileName, limits: message.limits, kept: new Map() })
+  } else if (message.type === 'open') {
+    const opened = openFileByteSource(message.path)
+    // A file that cannot be opened fails the tasks that use it; unused, it must not be an unhandled rejection.
+    opened.catch(() => {})
+    const close = () => opened.then((source) => source.close()).catch(() => {})
+    files.set(message.fileId, { input: opened, close, fileName: message.fileName, limits: message.limits, kept: new Map() })
   } else if (message.type === 'release') {
+    void files.get(message.fileId)?.close()
     files.delete(message.fileId)
   } else {
     const transfer: ArrayBuffer[] = []
-    runTask(message.task, transfer).then(
-      (value) => reply({ type: 'result', id: message.id, ok: true, value }, transfer),
-      (err: unknown) => reply({ type: 'result', id: message.id, ok: false, error: serializeError(err) }),
-    )
+    runTask(message.task, transfer)
+      .then(
+        (value) => reply({ type: 'result', id: message.id, ok: true, value }, transfer),
+        (err: unknown) => reply({ type: 'result', id: message.id, ok: false, error: serializeError(err) }),
+      )
+      // After the reply, so the transferred buffers have left and the pool is not kept waiting.
+      .then(() => message.task.kind === 'render' && collectRenderGarbage())
   }
 })
 

@@ -16,5 +16,4 @@ export interface MaskMeasurementInput {
 
 export interface MaskMeasurer {
   measure(input: MaskMeasurementInput): Promise<{ measurements: FrameMeasurements; distributions: FrameDistributions }>
-  close(): Promise<void>
 }

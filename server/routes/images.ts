@@ -1,6 +1,5 @@
 import { z } from 'zod'
 import multer from 'multer'
-import { tmpdir } from 'node:os'
 import { unlink } from 'node:fs/promises'
 import type { NextFunction, Request, Response } from 'express'
 import { apiRoute, type ApiDefinition } from '../openapi/apiRoute'
@@ -8,6 +7,7 @@ import { currentUser } from '../auth/guards'
 import { AppError } from '../errors'
 import { TECHNIQUES } from '../../shared/types/lab'
 import type { ImageService } from '../services/imageService'
+import type { UploadTempFolder } from '../http/uploadTempFolder'
 
 const MAX_FILES_PER_UPLOAD = 50
 
@@ -25,6 +25,7 @@ const UploadedSchema = z.object({
 const SummarySchema = UploadedSchema.extend({
   projectId: z.number().int(),
   sampleId: z.number().int().nullable(),
+  uploadedById: z.number().int().nullable(),
   technique: z.enum(TECHNIQUES),
   createdAt: z.string(),
   acquiredAt: z.string().nullable(),
@@ -60,9 +61,15 @@ const UploadFieldsSchema = z.object({
 const imageIdParams = z.object({ imageId: z.coerce.number().int().positive() })
 const frameParams = imageIdParams.extend({ index: z.coerce.number().int().min(0).max(100_000) })
 
-/** multer streams each part to a temporary file (bounded memory), within size and count limits. */
-function uploadReceiver(maxBytes: number) {
-  const uploadParts = multer({ dest: tmpdir(), limits: { fileSize: maxBytes, files: MAX_FILES_PER_UPLOAD + 1, fields: 20 } }).fields([
+/** Where upload parts go and how large one may be. */
+export interface UploadSettings {
+  maxBytes: number
+  folder: UploadTempFolder
+}
+
+/** multer streams each part to a temporary file in the upload folder (bounded memory), within size and count limits. */
+function uploadReceiver({ maxBytes, folder }: UploadSettings) {
+  const uploadParts = multer({ dest: folder.path, limits: { fileSize: maxBytes, files: MAX_FILES_PER_UPLOAD + 1, fields: 20 } }).fields([
     { name: 'files', maxCount: MAX_FILES_PER_UPLOAD },
     { name: 'frames', maxCount: 1 },
   ])
@@ -80,13 +87,16 @@ function uploadReceiver(maxBytes: number) {
     })
 }
 
-/** Temporary files are removed whatever happens to the request. */
-async function removeTemporaryFiles(req: Request) {
-  const groups = (req.files ?? {}) as Record<string, Express.Multer.File[]>
-  await Promise.allSettled(Object.values(groups).flat().map((f) => unlink(f.path)))
+function temporaryFiles(req: Request): Express.Multer.File[] {
+  return Object.values((req.files ?? {}) as Record<string, Express.Multer.File[]>).flat()
 }
 
-export function registerImageRoutes(api: ApiDefinition, images: ImageService, maxUploadBytes: number): void {
+/** Temporary files are removed whatever happens to the request. */
+async function removeTemporaryFiles(req: Request) {
+  await Promise.allSettled(temporaryFiles(req).map((f) => unlink(f.path)))
+}
+
+export function registerImageRoutes(api: ApiDefinition, images: ImageService, uploads: UploadSettings): void {
   apiRoute(api, {
     method: 'post',
     path: '/projects/:projectId/images',
@@ -95,7 +105,7 @@ export function registerImageRoutes(api: ApiDefinition, images: ImageService, ma
     access: 'signed-in',
     params: z.object({ projectId: z.coerce.number().int().positive() }),
     requestContentType: 'multipart/form-data',
-    before: [uploadReceiver(maxUploadBytes)],
+    before: [uploadReceiver(uploads)],
     responses: {
       201: { description: 'Stored (or recognised as a duplicate: duplicateOf)', schema: z.array(UploadedSchema) },
       403: { description: 'Role may not upload' },
@@ -104,6 +114,8 @@ export function registerImageRoutes(api: ApiDefinition, images: ImageService, ma
       415: { description: 'Not a PNG, JPEG or TIFF' },
     },
     handler: async (req, res, { params }) => {
+      // However long ingest takes, the sweep of the upload folder leaves this request's parts alone.
+      const release = uploads.folder.hold(temporaryFiles(req).map((f) => f.path))
       try {
         const fields = UploadFieldsSchema.safeParse(req.body ?? {})
         if (!fields.success) throw new AppError(400, 'invalid-input', `Invalid upload fields — ${fields.error.issues[0].path.join('.')}: ${fields.error.issues[0].message}`)
@@ -119,6 +131,7 @@ export function registerImageRoutes(api: ApiDefinition, images: ImageService, ma
         res.status(201).json(result)
       } finally {
         await removeTemporaryFiles(req)
+        release()
       }
     },
   })

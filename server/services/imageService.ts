@@ -4,14 +4,16 @@
  * write the image and frame rows in one transaction. Nothing half-written: a failure before the rows are committed
  * removes every object this upload stored.
  * Memory stays bounded whatever the file size: the upload is read from multer's temporary file range by range (headers
- * for the checks, one page at a time for the derivatives), hashed and sent to the store as streams.
+ * for the checks, one page at a time for the derivatives), and hashed and stored through one reused buffer each.
+ * The request thread only moves bytes and awaits: decoding a frame and rendering its preview and thumbnail run in the
+ * server's analysis threads, a few frames at a time (one more than the threads, so none idles while a finished frame
+ * is being stored), each frame stored as soon as it is rendered.
  */
 import { randomUUID, createHash } from 'node:crypto'
-import { createReadStream } from 'node:fs'
-import { readFile } from 'node:fs/promises'
+import { open, readFile } from 'node:fs/promises'
 import { Op, type WhereOptions } from 'sequelize'
 import type { Sequelize } from 'sequelize'
-import { decodeFrame, probeImage, ImageDecodeError, type ImageHeader } from '../../shared/imageio/decodeImage'
+import { probeImage, ImageDecodeError, type ImageHeader } from '../../shared/imageio/decodeImage'
 import { parseFramesCsv, validateFramesCsv, FramesCsvError } from '../../shared/imageio/framesCsv'
 import type { Technique } from '../../shared/types/lab'
 import type { ImageDetailDto, ImageSummaryDto, UploadedImageDto } from '../../shared/types/image'
@@ -21,8 +23,9 @@ import { assertLabAction } from '../auth/guards'
 import { AppError, ServiceUnavailableError, notFound } from '../errors'
 import { Frame, Image, Project, Sample, User } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
-import { openFileByteSource, withFileByteSource } from '../storage/fileByteSource'
-import { renderFrame } from './frameRendering'
+import { withFileByteSource } from '../storage/fileByteSource'
+import { AnalysisWorkerError, type AnalysisPool, type SharedFile } from '../analysis/analysisPool'
+import type { LazyAnalysisPool } from '../analysis/lazyAnalysisPool'
 import { recordAudit } from './auditService'
 
 export interface UploadedFile {
@@ -39,28 +42,63 @@ export interface UploadOptions {
   acquiredAt?: Date | null
 }
 
+const HASH_BUFFER_BYTES = 1024 * 1024
+
 export const frameObjectKey = (image: { objectKey: string }, index: number, kind: 'preview.png' | 'thumbnail.png' | 'pixels.bin') =>
   `${image.objectKey.replace(/\/original[^/]*$/, '')}/frames/${index}/${kind}`
 
+/** Hash with one reused buffer: a stream would allocate a new chunk for every 64 KiB of a file of up to gigabytes. */
 async function sha256OfFile(path: string): Promise<string> {
   const hash = createHash('sha256')
-  for await (const chunk of createReadStream(path)) hash.update(chunk as Buffer)
+  const buffer = Buffer.allocUnsafe(HASH_BUFFER_BYTES)
+  const handle = await open(path, 'r')
+  try {
+    for (;;) {
+      const { bytesRead } = await handle.read(buffer, 0, buffer.length, null)
+      if (bytesRead === 0) break
+      hash.update(buffer.subarray(0, bytesRead))
+    }
+  } finally {
+    await handle.close()
+  }
   return hash.digest('hex')
 }
 
 function decodeErrorToAppError(err: unknown, fileName: string): AppError {
   if (err instanceof ImageDecodeError) return new AppError(err.status, err.code, err.message, { file: fileName })
   if (err instanceof FramesCsvError) return new AppError(400, err.code, err.message, { file: fileName })
+  // A decode error raised in an analysis thread keeps its code and HTTP status across the thread boundary.
+  if (err instanceof AnalysisWorkerError && err.code !== undefined && err.status !== undefined) return new AppError(err.status, err.code, err.message, { file: fileName })
   return new AppError(400, 'corrupt-image', `${fileName}: the file could not be read as an image (${(err as Error).message}).`, { file: fileName })
 }
 
-/** Raw little-endian pixels of one frame (what the viewer reads for the pixel readout and the workspace for masks). */
-function pixelBytes(frame: { data: Uint8Array | Uint16Array | Float32Array }): Buffer {
-  return Buffer.from(frame.data.buffer, frame.data.byteOffset, frame.data.byteLength)
+/**
+ * Run `work` for the indices 0 … count − 1, at most `limit` at a time. After a failure no further index starts, and the
+ * first error is thrown only once the running ones have settled, so nothing is still being stored during clean-up.
+ */
+async function forEachIndexBounded(count: number, limit: number, work: (index: number) => Promise<void>): Promise<void> {
+  let next = 0
+  let failure = null as { error: unknown } | null
+  const lane = async () => {
+    while (failure === null && next < count) {
+      const index = next++
+      await work(index).catch((error: unknown) => {
+        failure ??= { error }
+      })
+    }
+  }
+  await Promise.all(Array.from({ length: Math.min(limit, count) }, lane))
+  if (failure !== null) throw failure.error
 }
 
-export function createImageService(deps: { sequelize: Sequelize; store: ObjectStore }) {
-  const { store, sequelize } = deps
+export interface ImageServiceDeps {
+  sequelize: Sequelize
+  store: ObjectStore
+  analysisPool: LazyAnalysisPool
+}
+
+export function createImageService(deps: ImageServiceDeps) {
+  const { store, sequelize, analysisPool } = deps
 
   async function loadProjectFor(user: SessionUser, projectId: number, action: Parameters<typeof assertLabAction>[2]) {
     const project = await Project.findOne({ where: { id: projectId, deletedAt: null } })
@@ -125,26 +163,18 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
     const extension = header.format === 'tiff' ? '.tif' : header.format === 'png' ? '.png' : '.jpg'
     const objectKey = `labs/${project.labId}/images/${randomUUID()}/original${extension}`
     const stored: string[] = []
-    const source = await openFileByteSource(file.path)
+    /** Listed before it is stored, so a put that fails after the store kept the object is cleaned up too. */
+    const put = async (key: string, body: Buffer | { path: string }, type: string) => {
+      stored.push(key)
+      await (Buffer.isBuffer(body) ? store.put(key, body, type) : store.putFile(key, body.path, type)).catch(() => {
+        throw new ServiceUnavailableError('storage', `${file.originalName}: the image store is not reachable right now; nothing was saved. Try again in a moment.`)
+      })
+    }
+    const pool = analysisPool.get()
+    const shared = pool.openFile(file.path, file.originalName)
     try {
-      await store.put(objectKey, createReadStream(file.path), header.mediaType)
-      stored.push(objectKey)
-      // One frame at a time: decode, render, store, and let it go before the next.
-      for (let index = 0; index < header.frameCount; index++) {
-        const frame = await decodeFrame(source, file.originalName, index).catch((err) => {
-          throw decodeErrorToAppError(err, file.originalName)
-        })
-        const { preview, thumbnail } = await renderFrame(frame)
-        for (const [kind, body, type] of [
-          ['preview.png', preview, 'image/png'],
-          ['thumbnail.png', thumbnail, 'image/png'],
-          ['pixels.bin', pixelBytes(frame), 'application/octet-stream'],
-        ] as const) {
-          const key = frameObjectKey({ objectKey }, index, kind)
-          await store.put(key, body, type)
-          stored.push(key)
-        }
-      }
+      await put(objectKey, { path: file.path }, header.mediaType)
+      await forEachIndexBounded(header.frameCount, pool.size + 1, (index) => storeFrameDerivatives(pool, shared, { objectKey, index }, put))
       const pixelSizeNm = options.pixelSizeNm ?? header.pixelSizeNm
       const pixelSizeSource = options.pixelSizeNm != null ? 'typed' : header.pixelSizeNm != null ? header.pixelSizeSource : null
       return await sequelize.transaction(async (transaction) => {
@@ -192,10 +222,25 @@ export function createImageService(deps: { sequelize: Sequelize; store: ObjectSt
       })
     } catch (err) {
       await Promise.allSettled(stored.map((key) => store.remove(key)))
-      if (err instanceof AppError || isDatabaseError(err)) throw err
-      throw new ServiceUnavailableError('storage', `${file.originalName}: the image store is not reachable right now; nothing was saved. Try again in a moment.`)
+      throw err
     } finally {
-      await source.close()
+      pool.releaseFile(shared)
+    }
+  }
+
+  /** Decode and render one frame in an analysis thread, then store its preview, thumbnail and raw pixels. */
+  async function storeFrameDerivatives(pool: AnalysisPool, file: SharedFile, frame: { objectKey: string; index: number }, put: (key: string, body: Buffer, type: string) => Promise<void>) {
+    const rendered = await pool.renderFrame(file, frame.index).catch((err: unknown) => {
+      // Errors of the pool itself (closed, a thread gone) are the server's, not the file's.
+      throw err instanceof AnalysisWorkerError ? decodeErrorToAppError(err, file.fileName) : err
+    })
+    for (const [kind, bytes, type] of [
+      ['preview.png', rendered.preview, 'image/png'],
+      ['thumbnail.png', rendered.thumbnail, 'image/png'],
+      // Raw little-endian pixels: what the viewer reads for the pixel readout and the workspace for masks.
+      ['pixels.bin', rendered.pixels, 'application/octet-stream'],
+    ] as const) {
+      await put(frameObjectKey(frame, frame.index, kind), Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), type)
     }
   }
 
@@ -329,10 +374,6 @@ function checkMotionTimes<T extends { kind: string; rows: { frame: number; line:
   return table
 }
 
-function isDatabaseError(err: unknown): boolean {
-  return typeof (err as { name?: string }).name === 'string' && (err as { name: string }).name.startsWith('Sequelize')
-}
-
 function toUploadedDto(image: Image): UploadedImageDto {
   return { id: image.id, name: image.name, sha256: image.sha256, width: image.width, height: image.height, bitDepth: image.bitDepth, frameCount: image.frameCount, pixelSizeNm: image.pixelSizeNm }
 }
@@ -344,6 +385,7 @@ function toSummaryDto(image: Image, frames: { annotationStatus: string }[]): Ima
     ...toUploadedDto(image),
     projectId: image.projectId,
     sampleId: image.sampleId,
+    uploadedById: image.uploadedById ?? null,
     technique: image.technique,
     createdAt: image.createdAt.toISOString(),
     acquiredAt: image.acquiredAt ? image.acquiredAt.toISOString() : null,

@@ -3,8 +3,22 @@
  * Checksum options are 'WHEN_REQUIRED' because the SDK's default aws-chunked uploads are stored with their chunk
  * framing by s3rver (STACK.md gotcha 8); real S3 accepts both.
  */
-import { CreateBucketCommand, DeleteObjectCommand, GetObjectCommand, HeadBucketCommand, HeadObjectCommand, ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3'
+import {
+  AbortMultipartUploadCommand,
+  CompleteMultipartUploadCommand,
+  CreateBucketCommand,
+  CreateMultipartUploadCommand,
+  DeleteObjectCommand,
+  GetObjectCommand,
+  HeadBucketCommand,
+  HeadObjectCommand,
+  ListObjectsV2Command,
+  PutObjectCommand,
+  S3Client,
+  UploadPartCommand,
+} from '@aws-sdk/client-s3'
 import { Upload } from '@aws-sdk/lib-storage'
+import { open } from 'node:fs/promises'
 import type { Readable } from 'node:stream'
 import type { AppConfig } from '../config'
 
@@ -13,6 +27,11 @@ process.env.AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED ??= 'true'
 export interface ObjectStore {
   bucket: string
   put(key: string, body: Buffer | Readable, contentType: string): Promise<void>
+  /**
+   * Store a file from disk through one reused buffer of FILE_PART_BYTES (in parts, one at a time, when larger): a
+   * stream through `put` would allocate every chunk and part anew, which a server process holds on to for a while.
+   */
+  putFile(key: string, path: string, contentType: string): Promise<void>
   get(key: string): Promise<Buffer>
   exists(key: string): Promise<boolean>
   remove(key: string): Promise<void>
@@ -23,6 +42,9 @@ export interface ObjectStore {
   ping(): Promise<void>
   close(): void
 }
+
+/** S3's smallest multipart part, and the most memory a file upload holds. */
+export const FILE_PART_BYTES = 5 * 1024 * 1024
 
 export function createObjectStore(config: AppConfig['s3']): ObjectStore {
   const client = new S3Client({
@@ -39,6 +61,43 @@ export function createObjectStore(config: AppConfig['s3']): ObjectStore {
     bucket: Bucket,
     async put(key, body, contentType) {
       await new Upload({ client, params: { Bucket, Key: key, Body: body, ContentType: contentType } }).done()
+    },
+    async putFile(key, path, contentType) {
+      const handle = await open(path, 'r')
+      try {
+        const { size } = await handle.stat()
+        const buffer = Buffer.allocUnsafe(Math.max(1, Math.min(size, FILE_PART_BYTES)))
+        const readPart = async (offset: number, length: number) => {
+          let filled = 0
+          while (filled < length) {
+            const { bytesRead } = await handle.read(buffer, filled, length - filled, offset + filled)
+            if (bytesRead === 0) throw new Error(`${path} ended at ${offset + filled} of ${size} bytes while it was being stored.`)
+            filled += bytesRead
+          }
+          return buffer.subarray(0, length)
+        }
+        if (size <= FILE_PART_BYTES) {
+          await client.send(new PutObjectCommand({ Bucket, Key: key, Body: await readPart(0, size), ContentType: contentType }))
+          return
+        }
+        const { UploadId } = await client.send(new CreateMultipartUploadCommand({ Bucket, Key: key, ContentType: contentType }))
+        try {
+          const parts: { ETag?: string; PartNumber: number }[] = []
+          for (let offset = 0; offset < size; offset += FILE_PART_BYTES) {
+            const PartNumber = parts.length + 1
+            const Body = await readPart(offset, Math.min(FILE_PART_BYTES, size - offset))
+            // Awaited before the buffer is read into again.
+            const { ETag } = await client.send(new UploadPartCommand({ Bucket, Key: key, UploadId, PartNumber, Body }))
+            parts.push({ ETag, PartNumber })
+          }
+          await client.send(new CompleteMultipartUploadCommand({ Bucket, Key: key, UploadId, MultipartUpload: { Parts: parts } }))
+        } catch (err) {
+          await client.send(new AbortMultipartUploadCommand({ Bucket, Key: key, UploadId })).catch(() => {})
+          throw err
+        }
+      } finally {
+        await handle.close()
+      }
     },
     async get(key) {
       const out = await client.send(new GetObjectCommand({ Bucket, Key: key }))

@@ -55,6 +55,14 @@ export function roleAllows(role: LabRole, action: LabAction): boolean {
   return (PERMISSIONS[action] as readonly LabRole[]).includes(role)
 }
 
+/**
+ * True when a person with `role` may delete this image: 'image.delete' covers their own uploads only, and anyone
+ * else's also needs 'image.deleteOthers' (an image whose uploader's account is gone counts as someone else's).
+ */
+export function roleMayDeleteImage(role: LabRole, image: { uploadedById: number | null }, userId: number): boolean {
+  return roleAllows(role, 'image.delete') && (image.uploadedById === userId || roleAllows(role, 'image.deleteOthers'))
+}
+
 /** True when any of the roles may perform `action` (a member holds one role per lab; this also serves lists). */
 export function anyRoleAllows(roles: readonly LabRole[], action: LabAction): boolean {
   return roles.some((role) => roleAllows(role, action))

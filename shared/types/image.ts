@@ -18,6 +18,8 @@ export type FrameAnnotationStatus = 'new' | 'in-progress' | 'submitted'
 export interface ImageSummaryDto extends UploadedImageDto {
   projectId: number
   sampleId: number | null
+  /** Who uploaded it (null when that account is gone): microscopists may delete their own uploads only. */
+  uploadedById: number | null
   technique: Technique
   createdAt: string
   acquiredAt: string | null

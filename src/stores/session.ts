@@ -4,7 +4,7 @@
  */
 import { computed, ref, shallowRef } from 'vue'
 import { defineStore } from 'pinia'
-import { anyRoleAllows, roleAllows, type LabAction, type LabRole } from '@shared/auth/permissions'
+import { anyRoleAllows, roleAllows, roleMayDeleteImage, type LabAction, type LabRole } from '@shared/auth/permissions'
 import type { CurrentUserDto } from '@shared/types/user'
 import { getCurrentUser, login, logout, type Credentials } from '@/api/auth'
 import { asApiError, isApiError, setCsrfToken, type ApiError } from '@/api/http'
@@ -34,6 +34,12 @@ export const useSessionStore = defineStore('session', () => {
     if (labId === undefined) return anyRoleAllows(roles.value, action)
     const membership = memberships.value.find((m) => m.labId === labId)
     return membership !== undefined && roleAllows(membership.role, action)
+  }
+
+  /** May the person delete this image of lab `labId`? Their own uploads with 'image.delete', others' with 'image.deleteOthers'. */
+  function canDeleteImage(image: { uploadedById: number | null }, labId: number): boolean {
+    const membership = memberships.value.find((m) => m.labId === labId)
+    return membership !== undefined && user.value !== null && roleMayDeleteImage(membership.role, image, user.value.id)
   }
 
   /** Ask the server whether a session cookie is still valid. Runs once; concurrent callers share the request. */
@@ -81,5 +87,5 @@ export const useSessionStore = defineStore('session', () => {
     status.value = 'ready'
   }
 
-  return { user, status, error, isSignedIn, memberships, roles, can, restore, signIn, signOut, clear }
+  return { user, status, error, isSignedIn, memberships, roles, can, canDeleteImage, restore, signIn, signOut, clear }
 })

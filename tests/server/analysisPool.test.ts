@@ -1,44 +1,41 @@
 /**
  * The analysis worker pool (server/analysis/analysisPool.ts): a stack analysed in worker threads gives exactly the
  * one-thread result of shared/analysis/analyzeStack.ts, frames land by index, a damaged frame is reported with its
- * index while the others are kept, and the pool stays usable. Needs no database (it sits in the server project
- * because it starts worker threads).
+ * index while the others are kept, and the pool stays usable. Files on disk are read by path, and an upload's frames
+ * are rendered there. Needs no database (it sits in the server project because it starts worker threads).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
 import { createAnalysisPool, measureMaskInPool, type AnalysisPool } from '../../server/analysis/analysisPool'
 import { StackFramesError, analyzeStackInPool } from '../../server/analysis/analyzeStackInPool'
 import { measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { analyzeStack, type StackAnalysis, type StackMeta } from '../../shared/analysis/analyzeStack'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
-import { decodeImage } from '../../shared/imageio/decodeImage'
+import { decodeFrame, decodeImage, probeImage } from '../../shared/imageio/decodeImage'
+import { renderFrame } from '../../server/analysis/frameRendering'
 import { encodeTiff } from '../../shared/imageio/encodeTiff'
 import { renderFieldSweep, renderTemperatureRamp } from '../../scripts/sampleImages'
+import { breakPage } from './damagedTiff'
 
 /** The whole result as text, masks included, so "equal" means byte-identical. */
 function serialize(result: StackAnalysis): string {
   return JSON.stringify(result, (_key, value: unknown) => (value instanceof Uint8Array ? Buffer.from(value).toString('base64') : value))
 }
 
-/** Set the Compression tag (259) of page `page` of a little-endian TIFF to Deflate, so its raw strips fail to inflate. */
-function breakPage(tiff: Uint8Array, page: number): Uint8Array {
-  const bytes = tiff.slice()
-  const view = new DataView(bytes.buffer)
-  let ifd = view.getUint32(4, true)
-  for (let p = 0; p < page; p++) ifd = view.getUint32(ifd + 2 + 12 * view.getUint16(ifd, true), true)
-  const entries = view.getUint16(ifd, true)
-  for (let e = 0; e < entries; e++) {
-    const entry = ifd + 2 + 12 * e
-    if (view.getUint16(entry, true) === 259) {
-      view.setUint16(entry + 8, 8, true)
-      return bytes
-    }
-  }
-  throw new Error('no Compression tag found')
-}
-
 const sweep = renderFieldSweep({ size: 128, seed: 77, maxFieldMT: 10, stepMT: 2 })
 const sweepBytes = encodeTiff(sweep.frames, { pixelSizeNm: 80 })
 const sweepMeta: StackMeta = { pixelSizeNm: 80, fieldUnit: 'mT', frames: sweep.fieldsMT.map((field) => ({ field, temperatureK: null })) }
+
+const folder = mkdtempSync(path.join(tmpdir(), 'remanence-pool-'))
+afterAll(() => rmSync(folder, { recursive: true, force: true }))
+
+function fileWith(name: string, bytes: Uint8Array): string {
+  const file = path.join(folder, name)
+  writeFileSync(file, bytes)
+  return file
+}
 
 describe('analysis pool', () => {
   let pool: AnalysisPool
@@ -116,6 +113,47 @@ describe('analysis pool', () => {
     // The same pool then analyses the intact file.
     const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
     expect(serialize(await analyzeStackInPool(pool, sweepBytes, 'sweep.tif', normalizeRecipe({}), sweepMeta))).toBe(serialize(analyzeStack(frames, normalizeRecipe({}), sweepMeta)))
+  })
+
+  describe('a file opened by path', () => {
+    it('When its frames are rendered in the pool, then each comes back with its raw pixels and the derivatives rendered in this thread', async () => {
+      const file = pool.openFile(fileWith('sweep.tif', sweepBytes), 'sweep.tif')
+      try {
+        expect(await pool.probe(file)).toEqual(await probeImage(sweepBytes, 'sweep.tif'))
+        const indices = [3, 0, 10]
+        const rendered = await Promise.all(indices.map((index) => pool.renderFrame(file, index)))
+        for (const [k, index] of indices.entries()) {
+          const frame = await decodeFrame(sweepBytes, 'sweep.tif', index)
+          const local = await renderFrame(frame)
+          expect(Buffer.from(rendered[k].pixels)).toEqual(Buffer.from(frame.data.buffer, frame.data.byteOffset, frame.data.byteLength))
+          expect(Buffer.from(rendered[k].preview)).toEqual(Buffer.from(local.preview))
+          expect(Buffer.from(rendered[k].thumbnail)).toEqual(Buffer.from(local.thumbnail))
+        }
+      } finally {
+        pool.releaseFile(file)
+      }
+    })
+
+    it('When one of its pages is damaged, then rendering that frame fails with corrupt-image and its neighbours still render', async () => {
+      const file = pool.openFile(fileWith('broken.tif', breakPage(sweepBytes, 2)), 'broken.tif')
+      try {
+        const error = await pool.renderFrame(file, 2).catch((e: unknown) => e)
+        expect(error).toMatchObject({ code: 'corrupt-image', status: 400 })
+        expect((error as Error).message).toContain('broken.tif')
+        expect((await pool.renderFrame(file, 1)).pixels.byteLength).toBe(128 * 128 * 2)
+      } finally {
+        pool.releaseFile(file)
+      }
+    })
+
+    it('When the path does not exist, then its tasks fail and the pool keeps working', async () => {
+      const file = pool.openFile(path.join(folder, 'gone.tif'), 'gone.tif')
+      await expect(pool.renderFrame(file, 0)).rejects.toThrow(/ENOENT/)
+      pool.releaseFile(file)
+      const shared = pool.shareFile(sweepBytes, 'sweep.tif')
+      expect((await pool.probe(shared)).frameCount).toBe(sweep.frames.length)
+      pool.releaseFile(shared)
+    })
   })
 
   it('When a saved mask is measured in the pool, then the measurements equal the one-thread ones', async () => {

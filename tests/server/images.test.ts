@@ -10,6 +10,7 @@ import { encodeTiff } from '../../shared/imageio/encodeTiff'
 import { Frame, Image } from '../../server/models'
 import { frameObjectKey } from '../../server/services/imageService'
 import type { GrayImage } from '../../shared/analysis/types'
+import { breakPage } from './damagedTiff'
 
 function ramp(width: number, height: number, offset = 0): GrayImage {
   const data = new Uint16Array(width * height)
@@ -98,6 +99,15 @@ describe('images', () => {
       expect(Array.from(values.subarray(0, 4))).toEqual([0, 7, 14, 21])
     })
 
+    it('When an image is uploaded, then its summary and detail name the uploader', async () => {
+      const res = await upload([{ name: 'mine.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 61)])) }])
+      const id = res.body[0].id
+      const detail = await microscopist.agent.get(`/api/images/${id}`)
+      expect(detail.body.uploadedById).toBe(home.people.microscopist.id)
+      const list = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&search=mine.tif`)
+      expect(list.body.items.map((i: { id: number; uploadedById: number }) => [i.id, i.uploadedById])).toEqual([[id, home.people.microscopist.id]])
+    })
+
     it('When a 41-frame 16-bit stack comes with a fields CSV, then 41 frames with their fields in the stated unit', async () => {
       const frames = Array.from({ length: 41 }, (_, i) => ramp(32, 32, i))
       const fields = Array.from({ length: 41 }, (_, i) => (i <= 20 ? 20 - 2 * i : -20 + 2 * (i - 20)))
@@ -171,6 +181,18 @@ describe('images', () => {
         expect((await request(ctx.app).get('/api/health')).status).toBe(200)
       })
     }
+
+    it('When frame 3 of a 6-frame stack cannot be decoded, then 400 corrupt-image naming the file, and no row and no object are left', async () => {
+      // The directories are intact, so the upload passes its checks and fails while frames render in parallel.
+      const stack = breakPage(encodeTiff(Array.from({ length: 6 }, (_, k) => ramp(64, 64, 200 + k))), 3)
+      const before = await state()
+      const res = await upload([{ name: 'damaged-page.tif', body: Buffer.from(stack) }])
+      expect(res.status).toBe(400)
+      expect(res.body.error).toMatchObject({ code: 'corrupt-image', file: 'damaged-page.tif' })
+      expect(res.body.error.message).toContain('damaged-page.tif')
+      expect(await state()).toEqual(before)
+      expect((await request(ctx.app).get('/api/health')).status).toBe(200)
+    })
 
     it('When the file exceeds the size limit, then 413 file-too-large and nothing stored', async () => {
       const small = startTestApp({ maxUploadBytes: 4096 })

@@ -17,6 +17,7 @@ function summary(id: number, name: string): ImageSummaryDto {
     pixelSizeNm: 120,
     projectId: 3,
     sampleId: null,
+    uploadedById: 7,
     technique: 'kerr-polar',
     createdAt: '2026-03-02T10:00:00.000Z',
     acquiredAt: null,

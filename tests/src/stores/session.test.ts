@@ -76,6 +76,38 @@ describe('useSessionStore', () => {
     })
   })
 
+  describe('canDeleteImage()', () => {
+    // The rule of the server's delete (shared/auth/permissions.ts): image.delete for one's own uploads, and
+    // image.deleteOthers as well for anyone else's, including images whose uploader's account is gone (null).
+    const cells = LAB_ROLES.flatMap((role) => {
+      const own = (PERMISSIONS['image.delete'] as readonly LabRole[]).includes(role)
+      const others = own && (PERMISSIONS['image.deleteOthers'] as readonly LabRole[]).includes(role)
+      return [
+        { role, uploader: 'themselves', uploadedById: 7, allowed: own },
+        { role, uploader: 'someone else', uploadedById: 8, allowed: others },
+        { role, uploader: 'a removed account', uploadedById: null, allowed: others },
+      ]
+    })
+    it.each(cells)('When a $role asks about an image uploaded by $uploader, then canDeleteImage is $allowed', async ({ role, uploadedById, allowed }) => {
+      const session = await signedInAs([{ labId: 1, role }])
+      expect(session.canDeleteImage({ uploadedById }, 1)).toBe(allowed)
+    })
+
+    it.each([
+      { role: 'microscopist', own: true, others: false },
+      { role: 'pi', own: true, others: true },
+      { role: 'annotator', own: false, others: false },
+    ] as const)('When the person is $role, then own uploads: $own, uploads of others: $others (spot checks)', async ({ role, own, others }) => {
+      const session = await signedInAs([{ labId: 1, role }])
+      expect([session.canDeleteImage({ uploadedById: 7 }, 1), session.canDeleteImage({ uploadedById: 8 }, 1)]).toEqual([own, others])
+    })
+
+    it('When the image is of a lab the person is not in, then no', async () => {
+      const session = await signedInAs([{ labId: 1, role: 'admin' }])
+      expect(session.canDeleteImage({ uploadedById: 7 }, 2)).toBe(false)
+    })
+  })
+
   describe('restore()', () => {
     it('When /auth/me answers 401, then the store is ready with no user', async () => {
       stubFetch({ 'GET /api/auth/me': () => errorResponse(401, 'not-signed-in', 'Please sign in.') })

@@ -1,0 +1,85 @@
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { flushPromises, mount } from '@vue/test-utils'
+import { createMemoryHistory } from 'vue-router'
+import { createPinia, setActivePinia, type Pinia } from 'pinia'
+import ElementPlus from 'element-plus'
+import type { LabRole } from '@shared/auth/permissions'
+import type { ImageDetailDto } from '@shared/types/image'
+import { createAppRouter } from '@/router'
+import ImageDetailView from '@/views/ImageDetailView.vue'
+import { jsonResponse, stubFetch } from '../fakeApi'
+
+let pinia: Pinia
+const ME = 7
+
+function detail(uploadedById: number | null): ImageDetailDto {
+  return {
+    id: 9,
+    name: 'anneal-300.tif',
+    sha256: 'ab'.repeat(32),
+    width: 4,
+    height: 4,
+    bitDepth: 16,
+    frameCount: 1,
+    pixelSizeNm: 100,
+    projectId: 2,
+    sampleId: null,
+    uploadedById,
+    technique: 'kerr-polar',
+    createdAt: '2026-03-01T09:00:00Z',
+    acquiredAt: null,
+    annotationStatus: 'new',
+    notes: '',
+    pixelSizeSource: null,
+    mediaType: 'image/tiff',
+    byteSize: 100,
+    sample: null,
+    frames: [{ id: 11, index: 0, field: null, fieldUnit: null, temperatureK: null, annotationStatus: 'new', assignee: null }],
+  }
+}
+
+/** The page's header only: the viewer, tables and panels below it are stubbed, as they play no part in deleting. */
+const STUBBED = ['ImageCanvas', 'ImageCanvasToolbar', 'ImageCompareControls', 'ImageDisplayControls', 'ImageFramePlayer', 'ImageFrameTable', 'ImageMetadataPanel', 'ImageStackRunsPanel', 'ImageCalibrationDialog']
+
+async function mountDetail(role: LabRole, uploadedById: number | null) {
+  stubFetch({
+    'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
+    'GET /api/projects': () => jsonResponse(200, [{ id: 2, labId: 1, name: 'Garnet film', description: '', createdAt: '2026-01-01T00:00:00.000Z', sampleCount: 0, imageCount: 1 }]),
+    'GET /api/images/9': () => jsonResponse(200, detail(uploadedById)),
+  })
+  const router = createAppRouter(createMemoryHistory())
+  await router.push('/images/9')
+  const wrapper = mount(ImageDetailView, {
+    props: { imageId: 9 },
+    global: { plugins: [pinia, router, ElementPlus], stubs: Object.fromEntries(STUBBED.map((name) => [name, true])) },
+    attachTo: document.body,
+  })
+  await flushPromises()
+  return wrapper
+}
+
+const hasDeleteButton = (wrapper: Awaited<ReturnType<typeof mountDetail>>) => wrapper.findAll('button').some((b) => b.text().trim() === 'Delete image')
+
+beforeEach(() => {
+  pinia = createPinia()
+  setActivePinia(pinia)
+})
+afterEach(() => {
+  vi.unstubAllGlobals()
+  document.body.innerHTML = ''
+})
+
+describe('ImageDetailView delete button', () => {
+  it.each([
+    { role: 'microscopist', uploader: 'themselves', uploadedById: ME, shown: true },
+    { role: 'microscopist', uploader: 'someone else', uploadedById: 8, shown: false },
+    { role: 'microscopist', uploader: 'a removed account', uploadedById: null, shown: false },
+    { role: 'pi', uploader: 'someone else', uploadedById: 8, shown: true },
+    { role: 'admin', uploader: 'a removed account', uploadedById: null, shown: true },
+    { role: 'reviewer', uploader: 'themselves', uploadedById: ME, shown: false },
+  ] as const)('When a $role opens an image uploaded by $uploader, then "Delete image" shown: $shown', async ({ role, uploadedById, shown }) => {
+    const wrapper = await mountDetail(role, uploadedById)
+    expect(wrapper.find('h1').text()).toBe('anneal-300.tif')
+    expect(hasDeleteButton(wrapper)).toBe(shown)
+  })
+})

@@ -1,0 +1,83 @@
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { flushPromises, mount } from '@vue/test-utils'
+import { createMemoryHistory } from 'vue-router'
+import { createPinia, setActivePinia, type Pinia } from 'pinia'
+import ElementPlus from 'element-plus'
+import type { LabRole } from '@shared/auth/permissions'
+import type { ImageSummaryDto } from '@shared/types/image'
+import { createAppRouter } from '@/router'
+import ImagesView from '@/views/ImagesView.vue'
+import { jsonResponse, stubFetch } from '../fakeApi'
+
+let pinia: Pinia
+const ME = 7
+const COLLEAGUE = 8
+
+function summary(id: number, name: string, uploadedById: number | null): ImageSummaryDto {
+  return {
+    id,
+    name,
+    sha256: 'ef'.repeat(32),
+    width: 256,
+    height: 256,
+    bitDepth: 16,
+    frameCount: 1,
+    pixelSizeNm: 80,
+    projectId: 3,
+    sampleId: null,
+    uploadedById,
+    technique: 'kerr-polar',
+    createdAt: '2026-03-02T10:00:00.000Z',
+    acquiredAt: null,
+    annotationStatus: 'new',
+  }
+}
+
+const IMAGES = [summary(1, 'mine.tif', ME), summary(2, 'colleague.tif', COLLEAGUE), summary(3, 'former-member.tif', null)]
+
+async function mountImages(role: LabRole) {
+  stubFetch({
+    'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
+    'GET /api/projects': () => jsonResponse(200, [{ id: 3, labId: 1, name: 'KB-24 anneal series', description: '', createdAt: '2026-01-01T00:00:00.000Z', sampleCount: 0, imageCount: 3 }]),
+    'GET /api/projects/3/samples': () => jsonResponse(200, []),
+    'GET /api/images': () => jsonResponse(200, { items: IMAGES, total: IMAGES.length, page: 1, pageSize: 25 }),
+  })
+  const router = createAppRouter(createMemoryHistory())
+  await router.push('/images')
+  const wrapper = mount(ImagesView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
+  await flushPromises()
+  return wrapper
+}
+
+/** Names of the rows that offer a Delete button (found by its accessible name, as a screen reader would). */
+function deletableNames(wrapper: Awaited<ReturnType<typeof mountImages>>): string[] {
+  return wrapper.findAll('button[aria-label^="Delete "]').map((b) => b.attributes('aria-label')!.replace(/^Delete /, ''))
+}
+
+beforeEach(() => {
+  pinia = createPinia()
+  setActivePinia(pinia)
+})
+afterEach(() => {
+  vi.unstubAllGlobals()
+  document.body.innerHTML = ''
+})
+
+describe('ImagesView delete buttons', () => {
+  it('When a microscopist looks at the list, then only their own upload offers Delete', async () => {
+    const wrapper = await mountImages('microscopist')
+    expect(wrapper.text()).toContain('colleague.tif')
+    expect(deletableNames(wrapper)).toEqual(['mine.tif'])
+  })
+
+  it('When a PI looks at the list, then every image offers Delete, whoever uploaded it', async () => {
+    const wrapper = await mountImages('pi')
+    expect(deletableNames(wrapper)).toEqual(['mine.tif', 'colleague.tif', 'former-member.tif'])
+  })
+
+  it('When an annotator looks at the list, then no image offers Delete', async () => {
+    const wrapper = await mountImages('annotator')
+    expect(wrapper.text()).toContain('mine.tif')
+    expect(deletableNames(wrapper)).toEqual([])
+  })
+})
