@@ -24,7 +24,9 @@ export function createPasswordResetService(deps: { sequelize: Sequelize; mailer:
 
   async function createLink(user: User, purpose: AccountLinkPurpose): Promise<string> {
     const { token, hash } = createSecretToken()
-    await PasswordReset.create({ userId: user.id, purpose, tokenHash: hash, expiresAt: new Date(Date.now() + ACCOUNT_LINK_MINUTES * 60_000), usedAt: null })
+    // One clock reading for both, so a link is valid for exactly ACCOUNT_LINK_MINUTES after it was made.
+    const now = Date.now()
+    await PasswordReset.create({ userId: user.id, purpose, tokenHash: hash, createdAt: new Date(now), expiresAt: new Date(now + ACCOUNT_LINK_MINUTES * 60_000), usedAt: null })
     return token
   }
 
