@@ -14,16 +14,21 @@ import { promisify } from 'node:util'
 import { mkdtempSync, rmSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import path from 'node:path'
-import { createLabWithRoles, signIn, startTestApp } from './testApp'
+import { createLabWithRoles, signIn, startTestApp, testConfig } from './testApp'
 import { freePort } from './freePort'
 import { encodeTiff } from '../../shared/imageio/encodeTiff'
 import { maskToBase64 } from '../../shared/imageio/maskEncoding'
 import type { BinaryMask, GrayImage } from '../../shared/analysis/types'
 import { checkConsistency } from '../../server/services/consistencyService'
 import { frameObjectKey } from '../../server/services/imageService'
-import { Frame, Image } from '../../server/models'
+import { Frame, Image, Project } from '../../server/models'
 
 const SESSION_SECRET = 'crash-safety-session-secret'
+/**
+ * A bucket of this file's own: a killed upload can leave s3rver with a half-written object that makes every later
+ * listing of the bucket fail (InternalError), which must not reach the other test files' whole-bucket checks.
+ */
+const CRASH_BUCKET = `crash-safety-${process.pid}`
 const run = promisify(execFile)
 /** The server's temporary folder (multer's upload parts): a killed upload leaves its parts there, removed after the run. */
 const serverTmp = mkdtempSync(path.join(tmpdir(), 'remanence-crash-'))
@@ -35,7 +40,7 @@ function serverEnv(port: number): NodeJS.ProcessEnv {
     HOST: '127.0.0.1',
     DATABASE_URL: inject('databaseUrl'),
     S3_ENDPOINT: inject('s3Endpoint'),
-    S3_BUCKET: inject('s3Bucket'),
+    S3_BUCKET: CRASH_BUCKET,
     SMTP_URL: inject('smtpUrl'),
     // The same secret after a restart, so the session cookies stay valid.
     SESSION_SECRET,
@@ -103,7 +108,7 @@ describe('crash safety: the web server process killed with SIGKILL and started a
 
   beforeAll(async () => {
     // In-process only for seeding and for reading the stored state; every request goes to the server process.
-    ctx = startTestApp()
+    ctx = startTestApp({ s3: { ...testConfig().s3, bucket: CRASH_BUCKET } })
     await ctx.deps.store.ensureBucket()
     lab = await createLabWithRoles('Crash')
     port = await freePort()
@@ -118,6 +123,12 @@ describe('crash safety: the web server process killed with SIGKILL and started a
   })
   afterAll(async () => {
     if (server) await killHard(server)
+    // This file's images live in its own bucket: their rows go too, so later whole-database checks (dataSafety) do
+    // not find rows whose objects are in a bucket they never look at.
+    if (lab) {
+      const projects = await Project.findAll({ where: { labId: lab.lab.id }, attributes: ['id'] })
+      await Image.destroy({ where: { projectId: projects.map((p) => p.id) } })
+    }
     await ctx?.stop()
     rmSync(serverTmp, { recursive: true, force: true })
   })
