@@ -18,7 +18,7 @@ import { spawn } from 'node:child_process'
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
 import { availableParallelism, cpus, tmpdir } from 'node:os'
 import { join } from 'node:path'
-import { fileURLToPath } from 'node:url'
+import { fileURLToPath, pathToFileURL } from 'node:url'
 import { analyzeFrame, intensityRange, histogramOnRange, measureMask, preprocessFrame, thresholdFromHistogram } from '../shared/analysis/analyzeFrame'
 import { labelBothPhases } from '../shared/analysis/connectedComponents'
 import { featureTransform } from '../shared/analysis/distanceTransform'
@@ -181,8 +181,9 @@ async function stackChild(file: string, csvFile: string): Promise<StackResult> {
 /**
  * A field sweep +20 → −20 → +20 mT in 2 mT steps (41 frames) through the tanh loop of scripts/sampleImages.ts
  * (Hc = 6 mT, w = 2.5 mT), with the per-pixel ranks taken from a typed-array sort so that 1024² stays quick.
+ * Also the stack of scripts/benchQueue.ts.
  */
-function benchFieldSweep(): { frames: GrayImage[]; fieldsMT: number[] } {
+export function benchFieldSweep(): { frames: GrayImage[]; fieldsMT: number[] } {
   const n = SIZE * SIZE
   const field = filteredNoise(SIZE, SWEEP_SEED, (qx, qy) => Math.exp(-2 * Math.PI ** 2 * 12 ** 2 * (qx * qx + qy * qy)))
   const sorted = Float64Array.from(field).sort()
@@ -278,8 +279,11 @@ async function main(): Promise<void> {
   }
 }
 
-main().catch((err: unknown) => {
-  console.error(err instanceof Error ? err.message : err)
-  process.exit(1)
-})
+// Run only as a script (and as its own --child): scripts/benchQueue.ts imports benchFieldSweep.
+if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) {
+  main().catch((err: unknown) => {
+    console.error(err instanceof Error ? err.message : err)
+    process.exit(1)
+  })
+}
 
