@@ -12,7 +12,7 @@ import {
   GetObjectCommand,
   HeadBucketCommand,
   HeadObjectCommand,
-  ListObjectsV2Command,
+  ListObjectsCommand,
   PutObjectCommand,
   S3Client,
   UploadPartCommand,
@@ -120,12 +120,16 @@ export function createObjectStore(config: AppConfig['s3']): ObjectStore {
     },
     async listDetailed(prefix) {
       const objects: { key: string; size: number; lastModified: Date }[] = []
-      let token: string | undefined
-      do {
-        const page = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }))
-        for (const item of page.Contents ?? []) if (item.Key) objects.push({ key: item.Key, size: item.Size ?? 0, lastModified: item.LastModified ?? new Date(0) })
-        token = page.IsTruncated ? page.NextContinuationToken : undefined
-      } while (token)
+      // ListObjects (v1) pages by marker = the last key seen. v2's continuation tokens would do as well on S3, but
+      // s3rver (the local stand-in) builds them with a cipher OpenSSL 3 no longer offers, so page 2 fails there.
+      let marker: string | undefined
+      for (;;) {
+        const page = await client.send(new ListObjectsCommand({ Bucket, Prefix: prefix, Marker: marker }))
+        const contents = page.Contents ?? []
+        for (const item of contents) if (item.Key) objects.push({ key: item.Key, size: item.Size ?? 0, lastModified: item.LastModified ?? new Date(0) })
+        if (!page.IsTruncated || contents.length === 0) break
+        marker = page.NextMarker ?? contents[contents.length - 1].Key
+      }
       return objects
     },
     async ensureBucket() {
