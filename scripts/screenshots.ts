@@ -17,8 +17,8 @@ const outDir = 'screenshots'
 mkdirSync(outDir, { recursive: true })
 
 const PAGES: Record<string, string[]> = {
-  admin: ['/', '/lab-admin', '/projects'],
-  pi: ['/', '/projects', '/images', '/compare'],
+  admin: ['/', '/lab-admin', '/projects', '/deleted-items'],
+  pi: ['/', '/projects', '/images', '/compare', '/deleted-items'],
   microscopist: ['/images', '/images/upload', '/samples'],
   annotator: ['/', '/images', '/queue'],
   reviewer: ['/review', '/images'],
