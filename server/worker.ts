@@ -11,6 +11,7 @@ import { createJobQueue, STACK_QUEUE, type StackJobData } from './jobs/jobQueue'
 import { findOrphanedRuns, processStackRun } from './jobs/stackRunProcessor'
 import { StackRun } from './models'
 import { createDeletionService } from './services/deletionService'
+import { openUploadTempFolder } from './http/uploadTempFolder'
 
 const config = loadConfig()
 const deps = createDeps(config)
@@ -21,6 +22,8 @@ const workerName = `${hostname()}:${process.pid}`
 /** How often deleted items past their retention period are removed for good (the sweep also runs at start). */
 const DELETION_SWEEP_MS = 60 * 60 * 1000
 const deletion = createDeletionService(deps)
+/** Originals of the runs being processed are streamed here; the folder's sweep removes what a killed worker left. */
+const scratch = openUploadTempFolder(config.uploadTmpDir)
 
 /** Runs whose worker died are queued again; the claim in processStackRun makes a double send harmless. */
 async function requeueOrphans() {
@@ -37,7 +40,7 @@ const boss = await jobs.boss()
 await pool.ready()
 await boss.work<StackJobData>(STACK_QUEUE, { pollingIntervalSeconds: 0.5, batchSize: 1 }, async ([job]) => {
   const started = Date.now()
-  const outcome = await processStackRun({ ...deps, pool }, job.data.runId, { workerName, staleSeconds })
+  const outcome = await processStackRun({ ...deps, pool, scratch }, job.data.runId, { workerName, staleSeconds })
   if (outcome === 'processed') console.log(`[worker] run ${job.data.runId} finished in ${((Date.now() - started) / 1000).toFixed(1)} s`)
 })
 await requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message))
@@ -56,6 +59,7 @@ async function shutdown(signal: string) {
   console.log(`[worker] ${signal}: stopping`)
   clearInterval(reaper)
   clearInterval(sweeper)
+  scratch.close()
   await jobs.close()
   await pool.close()
   await deps.dispose()

@@ -8,6 +8,9 @@
  * hour is far beyond a live part's age: Node ends a request whose body has not arrived within 5 minutes
  * (server.requestTimeout), and a file is ingested within minutes of that; files this process still uses are skipped
  * whatever their age, as a request with many large files can take longer. Created owner-only: parts are lab data.
+ * Job workers stream the original of the stack run they process into the same folder (stackRunProcessor.ts): the
+ * analysis threads open that file once when the run starts, so even a run longer than an hour, whose file another
+ * process's sweep might remove, keeps reading it (an unlinked file stays readable while open).
  */
 import { mkdirSync } from 'node:fs'
 import { lstat, readdir, unlink } from 'node:fs/promises'

@@ -1,10 +1,15 @@
 /**
- * Processes one stack run in a worker process: claim the run → fetch the original from the object store → the
- * stack passes in the analysis thread pool, frame results written one by one (upserts: a resumed run overwrites,
- * never duplicates) → the stack summary (loop, jumps, Curie fit). A frame that fails is recorded with its error and
- * the others are kept. A run whose worker died (no heartbeat for `staleSeconds`) can be claimed again and resumes
- * where the stored frame results end.
+ * Processes one stack run in a worker process: claim the run → stream the original from the object store into a
+ * scratch file, which the analysis threads read frame by frame (this process never holds the stack) → the stack
+ * passes in the analysis thread pool, each frame's result written as soon as that frame is done (upserts: a resumed
+ * run overwrites, never duplicates), so storing overlaps the analysis of the next frames → the stack summary (loop,
+ * jumps, Curie fit). A frame that fails is recorded with its error and the others are kept. A run whose worker died
+ * (no heartbeat for `staleSeconds`) can be claimed again and resumes where the stored frame results end.
  */
+import { randomBytes } from 'node:crypto'
+import { unlink } from 'node:fs/promises'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
 import { Op, type Sequelize } from 'sequelize'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
 import { contrastMaskFrame, pooledThreshold, safeHistogramRange, summarizeCurie, summarizeLoop, type StackMeta } from '../../shared/analysis/analyzeStack'
@@ -14,6 +19,18 @@ import { decodeMask, encodeMask } from '../../shared/imageio/maskEncoding'
 import { Frame, Image, StackFrameResult, StackRun } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
 import type { AnalysisPool } from '../analysis/analysisPool'
+import type { UploadTempFolder } from '../http/uploadTempFolder'
+
+export interface ProcessorDeps {
+  sequelize: Sequelize
+  store: ObjectStore
+  pool: AnalysisPool
+  /**
+   * Where the original is streamed to while its run is processed (the server's upload folder, whose sweep removes
+   * what a killed worker left behind); the system temp folder when not given.
+   */
+  scratch?: UploadTempFolder
+}
 
 export interface ProcessorOptions {
   workerName: string
@@ -36,7 +53,7 @@ async function claim(sequelize: Sequelize, runId: number, options: ProcessorOpti
 const heartbeat = (runId: number, framesDone?: number) =>
   StackRun.update({ heartbeatAt: new Date(), ...(framesDone !== undefined ? { framesDone } : {}) }, { where: { id: runId } })
 
-export async function processStackRun(deps: { sequelize: Sequelize; store: ObjectStore; pool: AnalysisPool }, runId: number, options: ProcessorOptions): Promise<'processed' | 'skipped'> {
+export async function processStackRun(deps: ProcessorDeps, runId: number, options: ProcessorOptions): Promise<'processed' | 'skipped'> {
   const run = await claim(deps.sequelize, runId, options)
   if (!run) return 'skipped'
   try {
@@ -48,7 +65,24 @@ export async function processStackRun(deps: { sequelize: Sequelize; store: Objec
   return 'processed'
 }
 
-async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool: AnalysisPool }, run: StackRun) {
+/** Stream the run's original into a scratch file, held against the folder's sweep until `release` is called. */
+async function fetchOriginal(deps: ProcessorDeps, objectKey: string): Promise<{ path: string; release: () => Promise<void> }> {
+  const file = path.join(deps.scratch?.path ?? tmpdir(), `run-${randomBytes(12).toString('hex')}.original`)
+  const unhold = deps.scratch?.hold([file]) ?? (() => {})
+  const release = async () => {
+    await unlink(file).catch(() => {})
+    unhold()
+  }
+  try {
+    await deps.store.getToFile(objectKey, file)
+  } catch (err) {
+    await release()
+    throw err
+  }
+  return { path: file, release }
+}
+
+async function runPasses(deps: ProcessorDeps, run: StackRun) {
   const { store, pool } = deps
   // A run queued before its image was deleted is not processed: a purge could remove the image mid-run.
   const image = await Image.findOne({ where: { id: run.imageId, deletedAt: null } })
@@ -56,8 +90,8 @@ async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool:
   const recipe: AnalysisRecipe = normalizeRecipe(run.recipe as Partial<AnalysisRecipe>)
   const frames = await Frame.findAll({ where: { imageId: image.id }, order: [['index', 'ASC']] })
   const meta: StackMeta = { pixelSizeNm: image.pixelSizeNm, fieldUnit: frames.find((f) => f.fieldUnit)?.fieldUnit ?? null, frames: frames.map((f) => ({ field: f.field, temperatureK: f.temperatureK })) }
-  const bytes = new Uint8Array(await store.get(image.objectKey))
-  const file = pool.shareFile(bytes, image.name)
+  const original = await fetchOriginal(deps, image.objectKey)
+  const file = pool.openFile(original.path, image.name)
   const all = frames.map((f) => f.index)
   try {
     let threshold = run.threshold ?? undefined
@@ -70,22 +104,29 @@ async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool:
     }
     const done = new Set((await StackFrameResult.findAll({ where: { runId: run.id }, attributes: ['frameIndex'] })).map((r) => r.frameIndex))
     const todo = all.filter((i) => !done.has(i))
-    const chunk = Math.max(1, pool.size)
-    for (let start = 0; start < todo.length; start += chunk) {
-      const outcomes = await pool.measurePass(file, todo.slice(start, start + chunk), recipe, { pixelSizeNm: image.pixelSizeNm, threshold })
-      for (const outcome of outcomes) {
+    // Masks of this attempt stay at hand for the summary; those of an earlier attempt are read back from the store.
+    const freshMasks = new Map<number, BinaryMask>()
+    let framesDone = done.size
+    // One task per frame, all queued at once: the pool stays busy while finished frames are being stored.
+    const stored = await Promise.allSettled(
+      todo.map(async (index) => {
+        const [outcome] = await pool.measurePass(file, [index], recipe, { pixelSizeNm: image.pixelSizeNm, threshold })
         let maskKey: string | null = null
         if (outcome.ok) {
           maskKey = `${image.objectKey.replace(/\/original[^/]*$/, '')}/runs/${run.id}/masks/${outcome.index}.rmsk`
           await store.put(maskKey, Buffer.from(encodeMask(outcome.value.mask)), 'application/octet-stream')
+          freshMasks.set(outcome.index, outcome.value.mask)
         }
         await StackFrameResult.upsert(
           { runId: run.id, frameIndex: outcome.index, measurements: outcome.ok ? (outcome.value.measurements as unknown as Record<string, unknown>) : null, maskKey, error: outcome.ok ? null : outcome.error.message },
           { conflictFields: ['run_id', 'frame_index'] as never },
         )
-      }
-      await heartbeat(run.id, await StackFrameResult.count({ where: { runId: run.id } }))
-    }
+        framesDone++
+        await heartbeat(run.id, framesDone)
+      }),
+    )
+    const storeFailure = stored.find((s) => s.status === 'rejected')
+    if (storeFailure) throw (storeFailure as PromiseRejectedResult).reason
 
     // Summary from the stored results (also those of an earlier, interrupted attempt).
     const results = await StackFrameResult.findAll({ where: { runId: run.id }, order: [['frameIndex', 'ASC']] })
@@ -97,7 +138,7 @@ async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool:
       const r = ok.find((x) => x.frameIndex === f.index)
       if (r) {
         measurements[f.index] = r.measurements as unknown as FrameMeasurements
-        masks[f.index] = decodeMask(new Uint8Array(await store.get(r.maskKey!)))
+        masks[f.index] = freshMasks.get(f.index) ?? decodeMask(new Uint8Array(await store.get(r.maskKey!)))
       } else {
         // A failed frame drops out of the loop and the Curie fit instead of breaking them.
         usable.frames[f.index] = { field: null, temperatureK: null }
@@ -126,6 +167,7 @@ async function runPasses(deps: { sequelize: Sequelize; store: ObjectStore; pool:
     })
   } finally {
     pool.releaseFile(file)
+    await original.release()
   }
 }
 

@@ -18,8 +18,10 @@ import {
   UploadPartCommand,
 } from '@aws-sdk/client-s3'
 import { Upload } from '@aws-sdk/lib-storage'
+import { createWriteStream } from 'node:fs'
 import { open } from 'node:fs/promises'
 import type { Readable } from 'node:stream'
+import { pipeline } from 'node:stream/promises'
 import type { AppConfig } from '../config'
 
 process.env.AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED ??= 'true'
@@ -33,6 +35,11 @@ export interface ObjectStore {
    */
   putFile(key: string, path: string, contentType: string): Promise<void>
   get(key: string): Promise<Buffer>
+  /**
+   * Stream an object into a new file at `path` (owner-only), never holding it whole: for large originals that are
+   * read range by range afterwards. A partial file is left for the caller to remove when the transfer fails.
+   */
+  getToFile(key: string, path: string): Promise<void>
   exists(key: string): Promise<boolean>
   remove(key: string): Promise<void>
   list(prefix?: string): Promise<string[]>
@@ -102,6 +109,10 @@ export function createObjectStore(config: AppConfig['s3']): ObjectStore {
     async get(key) {
       const out = await client.send(new GetObjectCommand({ Bucket, Key: key }))
       return Buffer.from(await out.Body!.transformToByteArray())
+    },
+    async getToFile(key, path) {
+      const out = await client.send(new GetObjectCommand({ Bucket, Key: key }))
+      await pipeline(out.Body as Readable, createWriteStream(path, { flags: 'wx', mode: 0o600 }))
     },
     async exists(key) {
       try {

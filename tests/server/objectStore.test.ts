@@ -1,7 +1,11 @@
 /**
- * The object store client against the real s3rver: listings longer than one S3 page (1,000 keys) come back whole.
+ * The object store client against the real s3rver: listings longer than one S3 page (1,000 keys) come back whole;
+ * an object streamed to a file arrives byte for byte and never overwrites an existing file.
  */
-import { randomUUID } from 'node:crypto'
+import { createHash, randomBytes, randomUUID } from 'node:crypto'
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { startTestApp } from './testApp'
 
@@ -26,4 +30,24 @@ describe('object store listing', () => {
     expect(listed.length).toBe(keys.length)
     expect([...listed].sort()).toEqual(keys)
   }, 120_000)
+
+  it('When an object larger than one multipart part is streamed to a file, then the file has the same SHA-256', async () => {
+    const folder = mkdtempSync(path.join(tmpdir(), 'remanence-get-to-file-'))
+    try {
+      const body = randomBytes(12 * 1024 * 1024 + 17)
+      const key = `${prefix}large.bin`
+      await ctx.deps.store.put(key, body, 'application/octet-stream')
+      const file = path.join(folder, 'large.bin')
+      await ctx.deps.store.getToFile(key, file)
+      const sha = (bytes: Buffer) => createHash('sha256').update(bytes).digest('hex')
+      expect(sha(readFileSync(file))).toBe(sha(body))
+      // An existing file is never overwritten (the caller picks a fresh name).
+      const existing = path.join(folder, 'existing.bin')
+      writeFileSync(existing, 'keep me')
+      await expect(ctx.deps.store.getToFile(key, existing)).rejects.toThrow(/EEXIST/)
+      expect(readFileSync(existing, 'utf8')).toBe('keep me')
+    } finally {
+      rmSync(folder, { recursive: true, force: true })
+    }
+  }, 60_000)
 })
