@@ -38,7 +38,6 @@ import { encodeTiff } from '../shared/imageio/encodeTiff'
 import { parseFramesCsv, validateFramesCsv } from '../shared/imageio/framesCsv'
 import { createAnalysisPool } from '../server/analysis/analysisPool'
 import { analyzeStackInPool } from '../server/analysis/analyzeStackInPool'
-import { readFileShared } from '../server/analysis/readFileShared'
 import { filteredNoise, renderKerrFrame, renderLabyrinth, sweepFields } from './sampleImages'
 
 const SIZE = 1024
@@ -155,13 +154,13 @@ async function stackChild(file: string, csvFile: string): Promise<StackResult> {
     peakSampled = Math.max(peakSampled, process.memoryUsage().rss)
   }, 10)
   const start = performance.now()
-  const bytes = readFileShared(file)
   const csv = validateFramesCsv(parseFramesCsv(readFileSync(csvFile, 'utf8')), STACK_FRAMES)
   const pool = createAnalysisPool()
   await pool.ready()
   const poolStarted = performance.now()
   const meta = { pixelSizeNm: null, fieldUnit: csv.fieldUnit ?? null, frames: csv.rows.map((r) => ({ field: r.field ?? null, temperatureK: null })) }
-  const result = await analyzeStackInPool(pool, bytes, file, DEFAULT_RECIPE, meta)
+  // By path, as the job worker does: each analysis thread reads the frames it needs and no thread holds the file.
+  const result = await analyzeStackInPool(pool, { path: file }, file, DEFAULT_RECIPE, meta)
   const end = performance.now()
   await pool.close()
   clearInterval(sampler)

@@ -38,8 +38,10 @@ if (port === null) throw new Error('analysisWorker.ts must run in a worker threa
 
 const files = new Map<number, SharedFile>()
 
-/** ArrayBuffer memory above which a rendering thread collects its garbage (see collectRenderGarbage). */
-const RENDER_GARBAGE_LIMIT_BYTES = 32 * 1024 * 1024
+/** ArrayBuffer memory above which a thread collects its garbage after a frame task (see collectFrameGarbage). */
+const FRAME_GARBAGE_LIMIT_BYTES = 32 * 1024 * 1024
+/** Tasks that work on whole frames and leave tens of MB of dead buffers behind. */
+const FRAME_TASKS: ReadonlySet<AnalysisTask['kind']> = new Set(['render', 'histogram', 'measure', 'contrast', 'analyzeFrame', 'measureMask', 'motion'])
 let collectGarbage: (() => void) | null = null
 
 function fileFor(fileId: number): SharedFile {
@@ -109,19 +111,20 @@ async function renderedFrame(frame: GrayImage, transfer: ArrayBuffer[]): Promise
 }
 
 /**
- * Rendering leaves about 10 MB of dead buffers per frame (strip reads, jimp's PNG encoder and resize). V8 frees a
- * thread's dead ArrayBuffers only once some 64 MB of them have piled up, and what a worker thread frees stays with that
- * thread's allocator, so each rendering thread would add 60–90 MB to the server during one large upload (npm run
- * bench:upload). A full collection whenever the thread holds more than RENDER_GARBAGE_LIMIT_BYTES keeps it near that,
- * for one collection every few frames. Worker threads take no --expose-gc flag of their own, so the collector is exposed
+ * A frame task leaves tens of MB of dead buffers (rendering about 10 MB: strip reads, jimp's PNG encoder and resize; a
+ * stack frame's analysis more: float copies, masks, labels, spectra). V8 frees a thread's dead ArrayBuffers only once
+ * some 64 MB of them have piled up, and what a worker thread frees stays with that thread's allocator, so each thread
+ * would add 60–200 MB to its process during a large upload (npm run bench:upload) or a stack run (npm run bench). A
+ * full collection after a frame task whenever the thread holds more than FRAME_GARBAGE_LIMIT_BYTES keeps it near that,
+ * for a few milliseconds per frame. Worker threads take no --expose-gc flag of their own, so the collector is exposed
  * for this thread at run time, on first need.
  */
-function collectRenderGarbage(): void {
-  if (process.memoryUsage().arrayBuffers < RENDER_GARBAGE_LIMIT_BYTES) return
+function collectFrameGarbage(): void {
+  if (process.memoryUsage().arrayBuffers < FRAME_GARBAGE_LIMIT_BYTES) return
   if (collectGarbage === null) {
     setFlagsFromString('--expose-gc')
     const exposed: unknown = runInNewContext('typeof gc === "function" ? gc : undefined')
-    // Should a Node version refuse the flag, rendering goes on as before, only with the larger footprint.
+    // Should a Node version refuse the flag, work goes on as before, only with the larger footprint.
     collectGarbage = typeof exposed === 'function' ? (exposed as () => void) : () => {}
   }
   collectGarbage()
@@ -220,7 +223,7 @@ port.on('message', (message: WorkerRequest) => {
         (err: unknown) => reply({ type: 'result', id: message.id, ok: false, error: serializeError(err) }),
       )
       // After the reply, so the transferred buffers have left and the pool is not kept waiting.
-      .then(() => message.task.kind === 'render' && collectRenderGarbage())
+      .then(() => FRAME_TASKS.has(message.task.kind) && collectFrameGarbage())
   }
 })
 

@@ -42,19 +42,21 @@ function values<T>(fileName: string, outcomes: FrameOutcome<T>[]): T[] {
 
 /**
  * Analyse every frame of an image file in the pool and summarise the stack (loop, jumps, Curie fit).
+ * @param input the file's bytes (shared with the workers), or its path on this machine (each worker reads the ranges
+ *   it needs, so no thread holds the whole file).
  * @param meta one condition per frame of the file (from its frames CSV), and the pixel size.
  * @throws AnalysisWorkerError with the ImageDecodeError's code and status when the file itself cannot be read; RangeError when `meta` does not match the frame count
  *   or the recipe's reference frame is not in the stack; StackFramesError naming the frames that failed.
  */
 export async function analyzeStackInPool(
   pool: AnalysisPool,
-  bytes: Uint8Array,
+  input: Uint8Array | { path: string },
   fileName: string,
   recipe: AnalysisRecipe,
   meta: StackMeta,
   limits?: Partial<DecodeLimits>,
 ): Promise<StackAnalysis> {
-  const file = pool.shareFile(bytes, fileName, limits)
+  const file = input instanceof Uint8Array ? pool.shareFile(input, fileName, limits) : pool.openFile(input.path, fileName, limits)
   try {
     // The header is read in a worker, which keeps the parsed file for decoding: this thread never parses it.
     const { frameCount } = await pool.probe(file)
