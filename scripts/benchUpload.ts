@@ -13,7 +13,6 @@
  */
 import { spawn, type ChildProcess } from 'node:child_process'
 import { createReadStream, readFileSync, writeFileSync } from 'node:fs'
-import net, { type AddressInfo } from 'node:net'
 import { cpus } from 'node:os'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
@@ -25,7 +24,7 @@ import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
 import { ensureSamples } from './ensureSamples'
 import { seedDemoLab } from './seed'
 import { startThrowawayServices } from './throwawayServices'
-import { waitForPort } from './processes'
+import { freePort, waitForPort } from './processes'
 
 const SIZE = 1024
 const DEFAULT_FRAMES = 100
@@ -61,14 +60,6 @@ function writeStack(file: string, frames: number, size: number, seed: number): n
   const bytes = encodeTiff(Array.from({ length: frames }, (_, i) => stripeFrame(i, size, random)), { pixelSizeNm: 80 })
   writeFileSync(file, bytes)
   return bytes.byteLength
-}
-
-async function freePort(): Promise<number> {
-  const server = net.createServer()
-  await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve))
-  const { port } = server.address() as AddressInfo
-  await new Promise((resolve) => server.close(resolve))
-  return port
 }
 
 /** VmRSS and VmHWM of a process, KiB. */

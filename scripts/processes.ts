@@ -29,6 +29,18 @@ export function portIsOpen(port: number, host = '127.0.0.1'): Promise<boolean> {
   })
 }
 
+/** A loopback port nothing listens on right now (the OS picks it), for a server a script or test starts itself. */
+export function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const probe = net.createServer()
+    probe.once('error', reject)
+    probe.listen(0, '127.0.0.1', () => {
+      const { port } = probe.address() as net.AddressInfo
+      probe.close(() => resolve(port))
+    })
+  })
+}
+
 export async function waitForPort(port: number, what: string, timeoutMs = 30_000): Promise<void> {
   const deadline = Date.now() + timeoutMs
   while (Date.now() < deadline) {

@@ -17,18 +17,21 @@ declare global {
   }
 }
 
-/** Load an active user with their active memberships, or null (unknown, deactivated). */
+/**
+ * Load an active user with their active memberships, or null (unknown, deactivated). One query (user, memberships and
+ * labs joined): it runs on every signed-in request.
+ */
 export async function loadSessionUser(userId: number): Promise<SessionUser | null> {
-  const user = await User.findByPk(userId)
+  const user = await User.findByPk(userId, {
+    include: [{ model: Membership, where: { active: true }, required: false, include: [{ model: Lab, attributes: ['id', 'name'] }] }],
+    order: [[Membership, 'labId', 'ASC']],
+  })
   if (!user || !user.active) return null
-  const memberships = await Membership.findAll({ where: { userId, active: true }, include: [{ model: Lab, attributes: ['id', 'name'] }], order: [['labId', 'ASC']] })
+  const memberships = (user as unknown as { Memberships: (Membership & { Lab: Lab })[] }).Memberships
   return {
     id: user.id,
     email: user.email,
     name: user.name,
-    memberships: memberships.map((m) => {
-      const lab = (m as unknown as { Lab: Lab }).Lab
-      return { labId: lab.id, labName: lab.name, role: m.role }
-    }),
+    memberships: memberships.map((m) => ({ labId: m.Lab.id, labName: m.Lab.name, role: m.role })),
   }
 }

@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { promisify } from 'node:util'
 import pg from 'pg'
-import { freePort } from './freePort'
+import { freePort } from '../../scripts/processes'
 
 const run = promisify(execFile)
 
