@@ -156,5 +156,23 @@ describe('auth', () => {
         await second.stop()
       }
     })
+
+    it('When a signed-in person makes several requests in a row, then the cookie is renewed each time but the stored expiry is written once', async () => {
+      const { agent } = await signIn(ctx.app, fixture.people.annotator.email)
+      const first = await agent.get('/api/auth/me')
+      // express-session's cookie value is "s:" + the session id + "." + its signature, URL-encoded.
+      const sid = /^s:([^.]+)\./.exec(decodeURIComponent(first.headers['set-cookie']![0].split(';')[0].split('=')[1]))![1]
+      const storedExpiry = async () => {
+        const [rows] = (await ctx.deps.sequelize.query('SELECT expire FROM session WHERE sid = :sid', { replacements: { sid } })) as [{ expire: Date }[], unknown]
+        return rows[0].expire.getTime()
+      }
+      const before = await storedExpiry()
+      await new Promise((resolve) => setTimeout(resolve, 1100))
+      const again = await agent.get('/api/auth/me')
+      expect(again.status).toBe(200)
+      // Rolling cookie: renewed on this response too.
+      expect(again.headers['set-cookie']![0]).toContain(`${SESSION_COOKIE}=`)
+      expect(await storedExpiry()).toBe(before)
+    })
   })
 })
