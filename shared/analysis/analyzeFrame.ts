@@ -14,8 +14,9 @@ import { medianFilter } from './medianFilter'
 import { flattenField, subtractReference } from './backgroundCorrection'
 import { binUpperEdge, otsuFromHistogram } from './otsuThreshold'
 import { kmeansSegment } from './kmeansSegmentation'
-import { closeMask, fillHoles, openMask } from './morphology'
-import { removeSmallDomains } from './minimumAreaFilter'
+import { closeMask, fillHoles, openMask, squareFilter3Packed } from './morphology'
+import { removeSmallDomains, removeSmallDomainsPacked } from './minimumAreaFilter'
+import { packNonZero, unpackBits, wordsPerRow } from './bitPackedMask'
 import { labelBothPhases } from './connectedComponents'
 import { domainSizeStats } from './domainSizes'
 import { localDomainWidths } from './localWidth'
@@ -124,14 +125,26 @@ export function histogramOnRange(image: FloatImage, min: number, max: number, bi
   }
   const scale = bins / (max - min)
   const last = bins - 1
-  for (let i = 0; i < data.length; i++) {
-    const t = (data[i] - min) * scale
-    // floor(t) clamped to [0, bins − 1]; |0 is floor for 0 ≤ t < bins. NaN pixels are not counted.
-    if (t >= bins) counts[last]++
-    else if (t >= 0) counts[t | 0]++
-    else if (t < 0) counts[0]++
+  // Even and odd pixels count into separate tables, so runs of equal bins do not wait on each other's increments.
+  const even = new Int32Array(bins)
+  const odd = new Int32Array(bins)
+  const n = data.length
+  let i = 0
+  for (; i + 1 < n; i += 2) {
+    countBin(even, (data[i] - min) * scale, bins, last)
+    countBin(odd, (data[i + 1] - min) * scale, bins, last)
   }
+  if (i < n) countBin(even, (data[i] - min) * scale, bins, last)
+  for (let b = 0; b < bins; b++) counts[b] = even[b] + odd[b]
   return counts
+}
+
+/** Count position t = (v − min)·scale in bin floor(t) clamped to [0, bins − 1]; NaN is not counted. */
+function countBin(counts: Int32Array, t: number, bins: number, last: number): void {
+  // |0 is floor for 0 ≤ t < bins.
+  if (t >= 0 && t < bins) counts[t | 0]++
+  else if (t >= bins) counts[last]++
+  else if (t < 0) counts[0]++
 }
 
 /** Otsu threshold of a pooled histogram on [min, max] (foreground = I > threshold). */
@@ -147,25 +160,40 @@ export function thresholdFromHistogram(counts: Uint32Array, min: number, max: nu
  */
 export function segmentPreprocessed(image: FloatImage, recipe: AnalysisRecipe, threshold?: number): { mask: BinaryMask; threshold: number | null; reassignedFraction: number } {
   const { width, height, data } = image
-  let mask: BinaryMask
-  let usedThreshold: number | null = null
-  if (recipe.method === 'kmeans') {
-    mask = kmeansSegment(image, { classes: recipe.kmeansClasses }).upMask
-  } else {
-    if (threshold === undefined) {
-      const { min, max } = intensityRange(image)
-      threshold = thresholdFromHistogram(histogramOnRange(image, min, max, 256), min, max)
-    }
-    usedThreshold = threshold
+  if (recipe.method === 'kmeans') return { ...cleanMask(kmeansSegment(image, { classes: recipe.kmeansClasses }).upMask, recipe), threshold: null }
+  if (threshold === undefined) {
+    const { min, max } = intensityRange(image)
+    threshold = thresholdFromHistogram(histogramOnRange(image, min, max, 256), min, max)
+  }
+  if (recipe.fillHoles || width * height === 0) {
     const bits = new Uint8Array(width * height)
     for (let i = 0; i < bits.length; i++) bits[i] = data[i] > threshold ? 1 : 0
-    mask = { width, height, data: bits }
+    return { ...cleanMask({ width, height, data: bits }, recipe), threshold }
   }
-  return { ...cleanMask(mask, recipe), threshold: usedThreshold }
+  // Binarise straight into packed rows and clean them there (the cleanMask steps), unpacking once.
+  const words = segmentBuffer(width, height)
+  packAbove(data, width, height, threshold, words)
+  const reassignedFraction = cleanPacked(words, width, height, undefined, recipe)
+  const bits = new Uint8Array(width * height)
+  unpackBits(words, width, height, bits)
+  return { mask: { width, height, data: bits }, reassignedFraction, threshold }
 }
 
 /** Morphological clean-up, hole filling and the minimum-area filter, in that order. */
 export function cleanMask(mask: BinaryMask, recipe: AnalysisRecipe): { mask: BinaryMask; reassignedFraction: number } {
+  const { width, height, ignore } = mask
+  const cleans = recipe.cleanup === 'open' || recipe.cleanup === 'close' || recipe.cleanup === 'open-close' || recipe.minDomainArea > 1
+  if (cleans && !recipe.fillHoles && width * height > 0) {
+    // The same steps on the mask packed 32 pixels to a word (see cleanPacked), packed and unpacked once.
+    const words = segmentBuffer(width, height)
+    packNonZero(mask.data, width, height, words)
+    const reassignedFraction = cleanPacked(words, width, height, ignore, recipe)
+    const data = new Uint8Array(width * height)
+    unpackBits(words, width, height, data)
+    const cleaned: BinaryMask = { width, height, data }
+    if (ignore) cleaned.ignore = ignore
+    return { mask: cleaned, reassignedFraction }
+  }
   let current = mask
   if (recipe.cleanup === 'open' || recipe.cleanup === 'open-close') current = openMask(current)
   if (recipe.cleanup === 'close' || recipe.cleanup === 'open-close') current = closeMask(current)
@@ -175,6 +203,43 @@ export function cleanMask(mask: BinaryMask, recipe: AnalysisRecipe): { mask: Bin
     return { mask: filtered.mask, reassignedFraction: filtered.reassignedFraction }
   }
   return { mask: current, reassignedFraction: 0 }
+}
+
+/** Packed mask of segmentPreprocessed/cleanMask, kept for the largest frame seen (never returned). */
+let segmentWords = new Int32Array(0)
+
+function segmentBuffer(width: number, height: number): Int32Array {
+  const count = wordsPerRow(width) * height
+  if (segmentWords.length < count) segmentWords = new Int32Array(count)
+  return segmentWords
+}
+
+/** Pack the pixels above `threshold` (up = I > threshold) into rows of words as packNonZero does. */
+function packAbove(data: Float32Array, width: number, height: number, threshold: number, out: Int32Array): void {
+  const stride = wordsPerRow(width)
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    for (let j = 0; j < stride; j++) {
+      const x0 = j << 5
+      const count = Math.min(32, width - x0)
+      let word = 0
+      for (let b = 0; b < count; b++) word |= (data[row + x0 + b] > threshold ? 1 : 0) << b
+      out[y * stride + j] = word
+    }
+  }
+}
+
+/**
+ * cleanMask's opening/closing (3×3, as openMask/closeMask) and minimum-area filter in place on a packed mask (no hole
+ * filling).
+ * @returns the reassigned fraction of the minimum-area filter (0 without it).
+ */
+function cleanPacked(words: Int32Array, width: number, height: number, ignore: Uint8Array | undefined, recipe: AnalysisRecipe): number {
+  const steps: boolean[] = []
+  if (recipe.cleanup === 'open' || recipe.cleanup === 'open-close') steps.push(true, false)
+  if (recipe.cleanup === 'close' || recipe.cleanup === 'open-close') steps.push(false, true)
+  if (steps.length > 0) squareFilter3Packed(words, width, height, steps)
+  return recipe.minDomainArea > 1 ? removeSmallDomainsPacked(words, width, height, recipe.minDomainArea, ignore).reassignedFraction : 0
 }
 
 /** Label buffers of measureMask (only counts and sizes leave it), kept for the largest frame seen. */

@@ -4,8 +4,12 @@
  * Method: two-pass labelling on horizontal runs with a union–find forest: pass 1 extracts the runs of each row and
  * unites each run with the overlapping runs of the previous row; pass 2 paints the resolved labels. Classic
  * two-pass scheme after A. Rosenfeld & J. L. Pfaltz (1966), "Sequential operations in digital picture processing",
- * J. ACM 13(4):471–494, DOI 10.1145/321356.321357 [from memory]. Labels are numbered 1..count in raster order of each
- * component's first pixel (the numbering scipy.ndimage.label also produces).
+ * J. ACM 13(4):471–494, DOI 10.1145/321356.321357 [from memory]; labelling runs instead of pixels is the run-length
+ * variant of the same scheme (e.g. L. He, Y. Chao & K. Suzuki (2008), "A run-based two-scan labeling algorithm",
+ * IEEE Trans. Image Process. 17(5):749–756, DOI 10.1109/TIP.2008.919369 [from memory]). Labels are numbered 1..count
+ * in raster order of each component's first pixel (the numbering scipy.ndimage.label also produces).
+ * Runs are found on the phase packed 32 pixels to a word: the set bits of `bits XOR (bits shifted by one pixel)` are
+ * exactly the run starts and ends, so a row costs one step per word plus one per run instead of one per pixel.
  * Both phases use opposite connectivities (up 8-connected, down 4-connected) so that domains and holes obey the
  * digital Jordan-curve property (Rosenfeld; stated in scikit-image's `euler_number` docs) (METHODS §1.4).
  * Checked against: METHODS.md checks #8 and #9, and a breadth-first flood-fill count on random masks (tests).
@@ -13,8 +17,11 @@
  * 4 (edge neighbours) or 8 (edge + corner neighbours); optional ignore map (1 = excluded pixel, never labelled).
  * Output: Int32Array labels (0 = not in the phase), per-label sizes in pixels, border/ignore contact flags and
  * inclusive bounding boxes; per-label arrays have length count + 1 and index 0 is unused (zero).
- * Buffers: the run tables of pass 1 are kept for the largest image seen, so labelling allocates only its outputs.
+ * Buffers: the packed rows and run tables of pass 1 are kept for the largest image seen, so labelling allocates only
+ * its outputs. The run labelling (labelRuns) is exported for the other bit-packed binary-map steps (morphology,
+ * area filter); the packing itself is in ./bitPackedMask.
  */
+import { packEqual, wordsPerRow } from './bitPackedMask'
 import type { BinaryMask, Connectivity } from './types'
 
 /** Labelled components of one phase. Per-label arrays are indexed by label (index 0 unused). */
@@ -47,34 +54,105 @@ function findRoot(parent: Int32Array, i: number): number {
   return i
 }
 
-function unite(parent: Int32Array, a: number, b: number): void {
-  const ra = findRoot(parent, a)
-  const rb = findRoot(parent, b)
-  if (ra < rb) parent[rb] = ra
-  else if (rb < ra) parent[ra] = rb
+/** Runs of one phase with their component labels: run i covers x = start[i]..end[i] of row row[i]. */
+export interface LabelledRuns {
+  runs: number
+  /** Number of components; runs carry labels 1..count in raster order of each component's first pixel. */
+  count: number
+  start: Int32Array
+  end: Int32Array
+  row: Int32Array
+  label: Int32Array
 }
 
-/** Run tables of pass 1, kept for the largest image seen: they never leave labelComponents. */
-interface RunBuffers {
-  runStart: Int32Array
-  runEnd: Int32Array
-  runRow: Int32Array
-  parent: Int32Array
-  runLabel: Int32Array
-}
+/** Run tables of pass 1, kept for the largest image seen: valid until the next labelRuns call. */
+let runScratch = { start: new Int32Array(0), end: new Int32Array(0), row: new Int32Array(0), parent: new Int32Array(0), label: new Int32Array(0) }
 
-let runScratch: RunBuffers = { runStart: new Int32Array(0), runEnd: new Int32Array(0), runRow: new Int32Array(0), parent: new Int32Array(0), runLabel: new Int32Array(0) }
-
-function runBuffers(maxRuns: number): RunBuffers {
-  if (runScratch.runStart.length < maxRuns) {
-    runScratch = { runStart: new Int32Array(maxRuns), runEnd: new Int32Array(maxRuns), runRow: new Int32Array(maxRuns), parent: new Int32Array(maxRuns), runLabel: new Int32Array(maxRuns) }
+/**
+ * Pass 1 and the label resolution on packed rows (as packEqual makes them; padding bits 0): the runs of set bits,
+ * in raster order, each with its component label. The arrays are module buffers, overwritten by the next call.
+ * @param connectivity 8 also joins runs of adjacent rows that touch only diagonally.
+ */
+export function labelRuns(words: Int32Array, width: number, height: number, connectivity: Connectivity): LabelledRuns {
+  const stride = wordsPerRow(width)
+  // A row holds at most ceil(width/2) runs.
+  const maxRuns = Math.ceil(width / 2) * height
+  if (runScratch.start.length < maxRuns) {
+    runScratch = { start: new Int32Array(maxRuns), end: new Int32Array(maxRuns), row: new Int32Array(maxRuns), parent: new Int32Array(maxRuns), label: new Int32Array(maxRuns) }
   }
-  return runScratch
+  const { start: runStart, end: runEnd, row: runRow, parent, label: runLabel } = runScratch
+  const reach = connectivity === 8 ? 1 : 0
+  let runs = 0
+  let prevFirst = 0
+  let prevEnd = 0
+  for (let y = 0; y < height; y++) {
+    const rowFirst = runs
+    // The set bits of word XOR (word << 1 | previous bit) mark where a pixel differs from its left neighbour (0 left
+    // of the row): alternately a run start and the pixel after a run's end.
+    let previousBit = 0
+    let open = -1
+    for (let j = 0, at = y * stride; j < stride; j++, at++) {
+      const word = words[at]
+      let changes = word ^ ((word << 1) | previousBit)
+      previousBit = word >>> 31
+      while (changes !== 0) {
+        const lowest = changes & -changes
+        changes ^= lowest
+        const x = (j << 5) + 31 - Math.clz32(lowest)
+        if (open < 0) {
+          open = x
+        } else {
+          runStart[runs] = open
+          runEnd[runs] = x - 1
+          runRow[runs] = y
+          parent[runs] = runs
+          runs++
+          open = -1
+        }
+      }
+    }
+    // A run reaching the row end has no change after it when the width is a multiple of 32.
+    if (open >= 0) {
+      runStart[runs] = open
+      runEnd[runs] = width - 1
+      runRow[runs] = y
+      parent[runs] = runs
+      runs++
+    }
+    // Two-pointer merge with the previous row: run [s, e] touches [ps, pe] when ps ≤ e + reach and pe ≥ s − reach.
+    let p = prevFirst
+    for (let c = rowFirst; c < runs && p < prevEnd; c++) {
+      const lo = runStart[c] - reach
+      const hi = runEnd[c] + reach
+      while (p < prevEnd && runEnd[p] < lo) p++
+      // c starts as its own root, and only its own unions change that root while it is merged.
+      let root = c
+      for (let q = p; q < prevEnd && runStart[q] <= hi; q++) {
+        const other = findRoot(parent, q)
+        if (other < root) {
+          parent[root] = other
+          root = other
+        } else if (root < other) {
+          parent[other] = root
+        }
+      }
+    }
+    prevFirst = rowFirst
+    prevEnd = runs
+  }
+
+  // Resolve roots to consecutive labels in raster order (roots are the smallest run index, so first-seen order).
+  let count = 0
+  for (let i = 0; i < runs; i++) {
+    const root = findRoot(parent, i)
+    runLabel[i] = root === i ? ++count : runLabel[root]
+  }
+  return { runs, count, start: runStart, end: runEnd, row: runRow, label: runLabel }
 }
 
-function runLabelBuffer(runs: number): Int32Array {
-  return runScratch.runLabel.length >= runs ? runScratch.runLabel : new Int32Array(runs)
-}
+/** Packed phase and packed analysable (not ignored) pixels of labelComponents, kept for the largest image seen. */
+let phaseBits = new Int32Array(0)
+let analysableBits = new Int32Array(0)
 
 /**
  * Label the pixels of `phase` equal to `value`.
@@ -103,50 +181,17 @@ export function labelComponents(
   const ignore = options.ignore
   const reach = connectivity === 8 ? 1 : 0
 
-  // Pass 1: runs per row, united with overlapping runs of the previous row. A row has at most ceil(width/2) runs.
-  const maxRuns = Math.ceil(width / 2) * height
-  const { runStart, runEnd, runRow, parent } = runBuffers(maxRuns)
-  let runs = 0
-  let prevFirst = 0
-  let prevEnd = 0
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    const rowFirst = runs
-    let x = 0
-    while (x < width) {
-      while (x < width && (phase[row + x] !== value || (ignore !== undefined && ignore[row + x] !== 0))) x++
-      if (x >= width) break
-      const start = x
-      while (x < width && phase[row + x] === value && (ignore === undefined || ignore[row + x] === 0)) x++
-      runStart[runs] = start
-      runEnd[runs] = x - 1
-      runRow[runs] = y
-      parent[runs] = runs
-      runs++
-    }
-    // Two-pointer merge with the previous row: run [s, e] touches [ps, pe] when ps ≤ e + reach and pe ≥ s − reach.
-    let p = prevFirst
-    for (let c = rowFirst; c < runs && p < prevEnd; c++) {
-      const lo = runStart[c] - reach
-      const hi = runEnd[c] + reach
-      while (p < prevEnd && runEnd[p] < lo) p++
-      let q = p
-      while (q < prevEnd && runStart[q] <= hi) {
-        unite(parent, c, q)
-        q++
-      }
-    }
-    prevFirst = rowFirst
-    prevEnd = runs
+  const words = wordsPerRow(width) * height
+  if (phaseBits.length < words) {
+    phaseBits = new Int32Array(words)
+    analysableBits = new Int32Array(words)
   }
-
-  // Resolve roots to consecutive labels in raster order (roots are the smallest run index, so first-seen order).
-  const runLabel = runLabelBuffer(runs)
-  let count = 0
-  for (let i = 0; i < runs; i++) {
-    const root = findRoot(parent, i)
-    runLabel[i] = root === i ? ++count : runLabel[root]
+  packEqual(phase, width, height, value, phaseBits)
+  if (ignore !== undefined) {
+    packEqual(ignore, width, height, 0, analysableBits)
+    for (let i = 0; i < words; i++) phaseBits[i] &= analysableBits[i]
   }
+  const { runs, count, start: runStart, end: runEnd, row: runRow, label: runLabel } = labelRuns(phaseBits, width, height, connectivity)
 
   // Pass 2: paint runs and accumulate per-label statistics per run, not per pixel.
   const sizes = new Uint32Array(count + 1)
@@ -166,7 +211,8 @@ export function labelComponents(
     const s = runStart[i]
     const e = runEnd[i]
     const y = runRow[i]
-    labels.fill(label, y * width + s, y * width + e + 1)
+    // A plain loop: most runs are short, where a fill() call costs more than the stores.
+    for (let k = y * width + s, last = y * width + e; k <= last; k++) labels[k] = label
     sizes[label] += e - s + 1
     if (s === 0 || e === lastX || y === 0 || y === lastY) touchesBorder[label] = 1
     const b = 4 * label

@@ -45,11 +45,34 @@ function convolveRows(src: Float32Array, dst: Float32Array, width: number, heigh
   }
 }
 
-/** Pixels radius..width−radius−1 of one row, whose taps all lie inside the row (any radius, same sum order). */
+/**
+ * Pixels radius..width−radius−1 of one row, whose taps all lie inside the row (any radius, same sum order). Four
+ * neighbouring pixels are summed side by side: their sums are independent, so the long tap loop is not one chain.
+ */
 function convolveRowInterior(src: Float32Array, dst: Float32Array, row: number, width: number, kernel: Float32Array): void {
   const radius = (kernel.length - 1) >> 1
   const taps = kernel.length
-  for (let i = row + radius, end = row + width - radius; i < end; i++) {
+  const end = row + width - radius
+  let i = row + radius
+  for (; i + 4 <= end; i += 4) {
+    let acc0 = 0
+    let acc1 = 0
+    let acc2 = 0
+    let acc3 = 0
+    const first = i - radius
+    for (let k = 0; k < taps; k++) {
+      const weight = kernel[k]
+      acc0 += src[first + k] * weight
+      acc1 += src[first + k + 1] * weight
+      acc2 += src[first + k + 2] * weight
+      acc3 += src[first + k + 3] * weight
+    }
+    dst[i] = acc0
+    dst[i + 1] = acc1
+    dst[i + 2] = acc2
+    dst[i + 3] = acc3
+  }
+  for (; i < end; i++) {
     let acc = 0
     const first = i - radius
     for (let k = 0; k < taps; k++) acc += src[first + k] * kernel[k]
@@ -103,30 +126,60 @@ function convolveRowInterior7(src: Float32Array, dst: Float32Array, row: number,
 
 /**
  * Convolve every column of `src` with `kernel` into `dst`, one output row at a time (it stays in cache) from the
- * 2·radius + 1 input rows it needs, accumulating in float32 in kernel order (the rounding of a Float32Array sum).
+ * 2·radius + 1 input rows it needs (edge rows repeated), accumulating in float32 in kernel order (the rounding of a
+ * Float32Array sum).
  */
 function convolveColumns(src: Float32Array, dst: Float32Array, width: number, height: number, kernel: Float32Array): void {
   const radius = (kernel.length - 1) >> 1
+  const taps = kernel.length
+  // Start of the input row of each tap, edge rows repeated; border rows then take the same loops as the others.
+  const rows = new Int32Array(taps)
   for (let y = 0; y < height; y++) {
-    const out = y * width
-    if (radius === 3 && y >= 3 && y < height - 3) {
-      convolveColumnRow7(src, dst, out, width, kernel)
-      continue
+    for (let k = 0; k < taps; k++) {
+      const yy = y + k - radius
+      rows[k] = (yy < 0 ? 0 : yy >= height ? height - 1 : yy) * width
     }
-    dst.fill(0, out, out + width)
-    for (let k = -radius; k <= radius; k++) {
-      const weight = kernel[k + radius]
-      let yy = y + k
-      if (yy < 0) yy = 0
-      else if (yy >= height) yy = height - 1
-      const inp = yy * width
-      for (let x = 0; x < width; x++) dst[out + x] += src[inp + x] * weight
-    }
+    if (radius === 3) convolveColumnRow7(src, rows, dst, y * width, width, kernel)
+    else convolveColumnRow(src, rows, dst, y * width, width, kernel)
   }
 }
 
-/** One output row from the seven input rows around it (no clamping needed), float32 rounding after every tap. */
-function convolveColumnRow7(src: Float32Array, dst: Float32Array, out: number, width: number, kernel: Float32Array): void {
+/**
+ * One output row of the column pass from the input rows starting at rows[k] (one per tap), float32 rounding after
+ * every tap. Taps are applied four at a time, so each output value is loaded and stored once per four taps.
+ */
+function convolveColumnRow(src: Float32Array, rows: Int32Array, dst: Float32Array, out: number, width: number, kernel: Float32Array): void {
+  const f = Math.fround
+  const taps = kernel.length
+  let k = 0
+  for (; k + 4 <= taps; k += 4) {
+    const a = rows[k]
+    const b = rows[k + 1]
+    const c = rows[k + 2]
+    const d = rows[k + 3]
+    const wa = kernel[k]
+    const wb = kernel[k + 1]
+    const wc = kernel[k + 2]
+    const wd = kernel[k + 3]
+    // The sum starts from +0, as in a zero-filled Float32Array row.
+    const first = k === 0
+    for (let x = 0; x < width; x++) {
+      let acc = f((first ? 0 : dst[out + x]) + src[a + x] * wa)
+      acc = f(acc + src[b + x] * wb)
+      acc = f(acc + src[c + x] * wc)
+      dst[out + x] = acc + src[d + x] * wd
+    }
+  }
+  for (; k < taps; k++) {
+    const a = rows[k]
+    const wa = kernel[k]
+    if (k === 0) for (let x = 0; x < width; x++) dst[out + x] = 0 + src[a + x] * wa
+    else for (let x = 0; x < width; x++) dst[out + x] += src[a + x] * wa
+  }
+}
+
+/** One output row of the 7-tap column pass from the seven input rows starting at rows[0..6]. */
+function convolveColumnRow7(src: Float32Array, rows: Int32Array, dst: Float32Array, out: number, width: number, kernel: Float32Array): void {
   const f = Math.fround
   const k0 = kernel[0]
   const k1 = kernel[1]
@@ -135,17 +188,18 @@ function convolveColumnRow7(src: Float32Array, dst: Float32Array, out: number, w
   const k4 = kernel[4]
   const k5 = kernel[5]
   const k6 = kernel[6]
-  const r0 = out - 3 * width
-  const r1 = out - 2 * width
-  const r2 = out - width
-  const r4 = out + width
-  const r5 = out + 2 * width
-  const r6 = out + 3 * width
+  const r0 = rows[0]
+  const r1 = rows[1]
+  const r2 = rows[2]
+  const r3 = rows[3]
+  const r4 = rows[4]
+  const r5 = rows[5]
+  const r6 = rows[6]
   for (let x = 0; x < width; x++) {
     let acc = f(0 + src[r0 + x] * k0)
     acc = f(acc + src[r1 + x] * k1)
     acc = f(acc + src[r2 + x] * k2)
-    acc = f(acc + src[out + x] * k3)
+    acc = f(acc + src[r3 + x] * k3)
     acc = f(acc + src[r4 + x] * k4)
     acc = f(acc + src[r5 + x] * k5)
     dst[out + x] = acc + src[r6 + x] * k6

@@ -22,16 +22,56 @@ export interface AreaFractions {
 export function areaFractions(mask: BinaryMask): AreaFractions {
   const { data, ignore } = mask
   const n = mask.width * mask.height
+  const { up, analysedPx } = countUp(data, ignore, n)
+  // Degenerate: nothing analysed ⇒ both fractions 0 (no evidence for either phase).
+  if (analysedPx === 0) return { up: 0, down: 0, analysedPx: 0 }
+  return { up: up / analysedPx, down: (analysedPx - up) / analysedPx, analysedPx }
+}
+
+/** Word order check for reading four bytes as one 32-bit word (little-endian byte k = bits 8k..8k+7). */
+const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
+
+/** High bit of every non-zero byte of v (carry-free: (b & 0x7f) + 0x7f sets the high bit iff b & 0x7f ≠ 0). */
+function nonZeroBytes(v: number): number {
+  return (((v & 0x7f7f7f7f) + 0x7f7f7f7f) | v) & 0x80808080
+}
+
+/** Number of high bits set in a nonZeroBytes-style word (0..4). */
+function countHighBits(v: number): number {
+  return Math.imul(v >>> 7, 0x01010101) >>> 24
+}
+
+/**
+ * Up and analysed pixel counts among the first n pixels (up = data ≠ 0, analysed = ignore absent or 0). Four pixels
+ * at a time through 32-bit words where the arrays allow it, then one at a time.
+ */
+function countUp(data: Uint8Array, ignore: Uint8Array | undefined, n: number): { up: number; analysedPx: number } {
   let up = 0
   let analysedPx = 0
-  for (let i = 0; i < n; i++) {
+  let i = 0
+  const words = LITTLE_ENDIAN && data.byteOffset % 4 === 0 && data.length >= n && (ignore === undefined || (ignore.byteOffset % 4 === 0 && ignore.length >= n))
+  if (words) {
+    const quads = n >>> 2
+    const dataWords = new Int32Array(data.buffer, data.byteOffset, quads)
+    if (ignore === undefined) {
+      for (let q = 0; q < quads; q++) up += countHighBits(nonZeroBytes(dataWords[q]))
+      analysedPx = quads << 2
+    } else {
+      const ignoreWords = new Int32Array(ignore.buffer, ignore.byteOffset, quads)
+      for (let q = 0; q < quads; q++) {
+        const analysed = ~nonZeroBytes(ignoreWords[q]) & 0x80808080
+        analysedPx += countHighBits(analysed)
+        up += countHighBits(nonZeroBytes(dataWords[q]) & analysed)
+      }
+    }
+    i = quads << 2
+  }
+  for (; i < n; i++) {
     if (ignore !== undefined && ignore[i] !== 0) continue
     analysedPx++
     if (data[i] !== 0) up++
   }
-  // Degenerate: nothing analysed ⇒ both fractions 0 (no evidence for either phase).
-  if (analysedPx === 0) return { up: 0, down: 0, analysedPx: 0 }
-  return { up: up / analysedPx, down: (analysedPx - up) / analysedPx, analysedPx }
+  return { up, analysedPx }
 }
 
 /**

@@ -9,11 +9,14 @@
  * A component is reassigned only if it shares an edge with the other phase (a component bounded only by the border
  * and ignored pixels has no surrounding phase; e.g. the whole image being one small component is kept).
  * Components touching the border are filtered like the others (a sub-resolution fragment is noise either way).
+ * Components are labelled as runs on the mask packed 32 pixels to a word (connectedComponents.ts), so only the runs of
+ * small components are visited to test their neighbours and flip them.
  * Checked against: METHODS.md check #10 (sizes {1, 4, 9, 30}, A_min 5 → {9, 30} kept, 5 px reassigned) [D].
  * Input: BinaryMask (1 = up); ignored pixels keep their value and are not counted. A_min in pixels (minArea ≤ 1
  * changes nothing). Output: the filtered mask, reassigned pixel count and fraction of analysed pixels.
  */
-import { labelComponents } from './connectedComponents'
+import { packEqual, packNonZero, rowTailMask, unpackBits, wordsPerRow } from './bitPackedMask'
+import { labelRuns } from './connectedComponents'
 import type { BinaryMask, Connectivity } from './types'
 
 /** Result of {@link removeSmallDomains}. */
@@ -25,64 +28,100 @@ export interface MinimumAreaResult {
   reassignedFraction: number
 }
 
+/** Packed working rows (see connectedComponents.ts), kept for the largest image seen (never returned). */
+let maskBits = new Int32Array(0)
+let beforeBits = new Int32Array(0)
+let analysableBits = new Int32Array(0)
+let phaseBits = new Int32Array(0)
+let otherBits = new Int32Array(0)
+
+/** True when any bit x0..x1 (inclusive, x0 ≤ x1) of the packed row starting at word `row` is set. */
+function anyInRange(words: Int32Array, row: number, x0: number, x1: number): boolean {
+  const j0 = x0 >>> 5
+  const j1 = x1 >>> 5
+  const from = -1 << (x0 & 31)
+  const to = -1 >>> (31 - (x1 & 31))
+  if (j0 === j1) return (words[row + j0] & from & to) !== 0
+  if ((words[row + j0] & from) !== 0) return true
+  for (let j = j0 + 1; j < j1; j++) if (words[row + j] !== 0) return true
+  return (words[row + j1] & to) !== 0
+}
+
+/** Set (on) or clear bits x0..x1 (inclusive) of the packed row starting at word `row`. */
+function setRange(words: Int32Array, row: number, x0: number, x1: number, on: boolean): void {
+  for (let j = x0 >>> 5, j1 = x1 >>> 5; j <= j1; j++) {
+    const from = j === x0 >>> 5 ? -1 << (x0 & 31) : -1
+    const to = j === j1 ? -1 >>> (31 - (x1 & 31)) : -1
+    const bits = from & to
+    words[row + j] = on ? words[row + j] | bits : words[row + j] & ~bits
+  }
+}
+
+/** Number of set bits of a 32-bit word (SWAR population count). */
+function bitCount(v: number): number {
+  v -= (v >>> 1) & 0x55555555
+  v = (v & 0x33333333) + ((v >>> 2) & 0x33333333)
+  return Math.imul((v + (v >>> 4)) & 0x0f0f0f0f, 0x01010101) >>> 24
+}
+
 /**
- * Flip, in place, every component of phase `value` smaller than `minArea` that shares an edge with the other phase.
+ * Flip, in the packed up map `up`, every component of phase `value` smaller than `minArea` that shares an edge with an
+ * analysed pixel of the other phase. Components are labelled on runs (labelRuns), and only the runs of small
+ * components are examined and flipped. `analysable` has the non-ignored pixels set, or is null when none is ignored.
  */
 function flipSmall(
-  data: Uint8Array,
+  up: Int32Array,
+  analysable: Int32Array | null,
   width: number,
   height: number,
   value: 0 | 1,
   connectivity: Connectivity,
   minArea: number,
-  ignore: Uint8Array | undefined,
 ): void {
-  if (labelScratch.length < width * height) labelScratch = new Int32Array(width * height)
-  const { labels, count, sizes } = labelComponents(data, width, height, connectivity, value, { ignore, labelsOut: labelScratch })
-  // small[l] = 1 for the components below minArea, the only ones that can be flipped.
-  const small = new Uint8Array(count + 1)
+  const stride = wordsPerRow(width)
+  const words = stride * height
+  const tailMask = rowTailMask(width)
+  // The labelled phase and the analysed pixels of the other phase (padding bits 0 in both).
+  for (let i = 0; i < words; i++) {
+    const inRow = (i + 1) % stride === 0 ? tailMask : -1
+    const allowed = analysable === null ? inRow : analysable[i]
+    phaseBits[i] = (value === 1 ? up[i] : ~up[i]) & allowed
+    otherBits[i] = (value === 1 ? ~up[i] : up[i]) & allowed
+  }
+  const { runs, count, start, end, row, label } = labelRuns(phaseBits, width, height, connectivity)
+  const sizes = new Float64Array(count + 1)
+  for (let i = 0; i < runs; i++) sizes[label[i]] += end[i] - start[i] + 1
+  // flip[l]: 1 = below minArea, 2 = below minArea with a neighbour of the other phase (to be flipped).
+  const flip = new Uint8Array(count + 1)
   let anySmall = false
   for (let l = 1; l <= count; l++) {
     if (sizes[l] < minArea) {
-      small[l] = 1
+      flip[l] = 1
       anySmall = true
     }
   }
   if (!anySmall) return
 
-  // A component has a surrounding phase only if one of its pixels has an edge neighbour of the other phase; only
-  // small components are asked.
-  const other = 1 - value
-  const hasNeighbour = new Uint8Array(count + 1)
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    for (let x = 0; x < width; x++) {
-      const i = row + x
-      const label = labels[i]
-      if (small[label] === 0 || hasNeighbour[label] === 1) continue
-      if (
-        (x > 0 && isOther(data, ignore, i - 1, other)) ||
-        (x < width - 1 && isOther(data, ignore, i + 1, other)) ||
-        (y > 0 && isOther(data, ignore, i - width, other)) ||
-        (y < height - 1 && isOther(data, ignore, i + width, other))
-      ) {
-        hasNeighbour[label] = 1
-      }
+  // Every edge neighbour of a run lies left or right of it or in the rows above and below; all are tested before
+  // anything is flipped.
+  const lastX = width - 1
+  for (let i = 0; i < runs; i++) {
+    const l = label[i]
+    if (flip[l] !== 1) continue
+    const s = start[i]
+    const e = end[i]
+    const y = row[i]
+    const at = y * stride
+    if (
+      (s > 0 && anyInRange(otherBits, at, s - 1, s - 1)) ||
+      (e < lastX && anyInRange(otherBits, at, e + 1, e + 1)) ||
+      (y > 0 && anyInRange(otherBits, at - stride, s, e)) ||
+      (y < height - 1 && anyInRange(otherBits, at + stride, s, e))
+    ) {
+      flip[l] = 2
     }
   }
-
-  for (let i = 0; i < labels.length; i++) {
-    const label = labels[i]
-    if (small[label] === 1 && hasNeighbour[label] === 1) data[i] = other
-  }
-}
-
-/** Labels of flipSmall and the copy of the mask before filtering, kept for the largest image seen (never returned). */
-let labelScratch = new Int32Array(0)
-let beforeScratch = new Uint8Array(0)
-
-function isOther(data: Uint8Array, ignore: Uint8Array | undefined, i: number, other: number): boolean {
-  return data[i] === other && (ignore === undefined || ignore[i] === 0)
+  for (let i = 0; i < runs; i++) if (flip[label[i]] === 2) setRange(up, row[i] * stride, start[i], end[i], value === 0)
 }
 
 /**
@@ -94,22 +133,52 @@ function isOther(data: Uint8Array, ignore: Uint8Array | undefined, i: number, ot
 export function removeSmallDomains(mask: BinaryMask, minArea: number): MinimumAreaResult {
   const { width, height, ignore } = mask
   const data = new Uint8Array(width * height)
-  for (let i = 0; i < data.length; i++) data[i] = mask.data[i] !== 0 ? 1 : 0
-  let analysed = data.length
-  if (ignore) for (let i = 0; i < ignore.length && i < data.length; i++) if (ignore[i] !== 0) analysed--
-
   const result: BinaryMask = { width, height, data }
   if (ignore) result.ignore = ignore
-  // Every component has at least one pixel, so minArea ≤ 1 cannot remove anything; nor can an empty image.
-  if (!(minArea > 1) || analysed === 0) return { mask: result, reassignedPixels: 0, reassignedFraction: 0 }
+  const words = wordsPerRow(width) * height
+  if (maskBits.length < words) maskBits = new Int32Array(words)
+  packNonZero(mask.data, width, height, maskBits)
+  const { reassignedPixels, reassignedFraction } = removeSmallDomainsPacked(maskBits, width, height, minArea, ignore)
+  unpackBits(maskBits, width, height, data)
+  return { mask: result, reassignedPixels, reassignedFraction }
+}
 
+/**
+ * removeSmallDomains in place on a mask packed as by packNonZero (connectedComponents.ts), for callers that keep the
+ * mask packed between steps. Ignored pixels (`ignore` ≠ 0) keep their bit.
+ * @returns the reassigned pixel count and fraction of analysed pixels.
+ */
+export function removeSmallDomainsPacked(
+  up: Int32Array,
+  width: number,
+  height: number,
+  minArea: number,
+  ignore?: Uint8Array,
+): { reassignedPixels: number; reassignedFraction: number } {
+  const n = width * height
+  let analysed = n
+  if (ignore) for (let i = 0; i < ignore.length && i < n; i++) if (ignore[i] !== 0) analysed--
+  // Every component has at least one pixel, so minArea ≤ 1 cannot remove anything; nor can an empty image.
+  if (!(minArea > 1) || analysed === 0) return { reassignedPixels: 0, reassignedFraction: 0 }
+
+  const words = wordsPerRow(width) * height
+  if (beforeBits.length < words) {
+    beforeBits = new Int32Array(words)
+    analysableBits = new Int32Array(words)
+    phaseBits = new Int32Array(words)
+    otherBits = new Int32Array(words)
+  }
+  let analysable: Int32Array | null = null
+  if (ignore) {
+    // Pixels past the end of a short ignore map are left out of the components, as labelComponents does.
+    packEqual(ignore, width, height, 0, analysableBits)
+    analysable = analysableBits
+  }
+  beforeBits.set(up.subarray(0, words))
+  flipSmall(up, analysable, width, height, 1, 8, minArea)
+  flipSmall(up, analysable, width, height, 0, 4, minArea)
   // Count the final difference: an up speck flipped in step 1 and absorbed back into up in step 2 is not reassigned.
-  if (beforeScratch.length < data.length) beforeScratch = new Uint8Array(data.length)
-  const before = beforeScratch
-  before.set(data)
-  flipSmall(data, width, height, 1, 8, minArea, ignore)
-  flipSmall(data, width, height, 0, 4, minArea, ignore)
   let reassignedPixels = 0
-  for (let i = 0; i < data.length; i++) if (data[i] !== before[i]) reassignedPixels++
-  return { mask: result, reassignedPixels, reassignedFraction: reassignedPixels / analysed }
+  for (let i = 0; i < words; i++) reassignedPixels += bitCount(up[i] ^ beforeBits[i])
+  return { reassignedPixels, reassignedFraction: reassignedPixels / analysed }
 }

@@ -5,6 +5,10 @@
  * (1982), *Image Analysis and Mathematical Morphology*, Academic Press [from memory]. Opening = erosion then dilation
  * (removes up specks smaller than the SE); closing = dilation then erosion (fills down holes/gaps) (METHODS §1.3).
  * The square SE is separable: a row pass then a column pass of running window counts, O(1) per pixel for any r.
+ * The 3×3 case (r = 1, the default clean-up) runs on the mask packed 32 pixels to a word, where both passes are
+ * word-wide AND/OR: a row pass combines each word with itself shifted one pixel left and right (bits carried across
+ * word boundaries), a column pass combines the words of the rows above and below ("bit-parallel" binary morphology,
+ * common practice, no single source).
  * Borders: edge replication (pixels outside the image take the nearest border value), so domains touching the border
  * do not shrink (zero padding would erode them).
  * Both phases: with a symmetric SE and edge replication, erosion and dilation are exact duals, so
@@ -15,6 +19,7 @@
  * Input: BinaryMask with 0/1 data (any non-zero value counts as up); the `ignore` map is passed through unchanged and
  * ignored pixels take part as pixels of their stored phase. Output: new BinaryMask of the same size.
  */
+import { packNonZero, rowTailMask, unpackBits, wordsPerRow } from './bitPackedMask'
 import { labelComponents } from './connectedComponents'
 import type { BinaryMask, Connectivity } from './types'
 
@@ -80,39 +85,72 @@ function columnPass(
 }
 
 /**
- * 3×3 fast path (r = 1, the default clean-up), same result as the running counts: along a row the AND (erosion) or
- * OR (dilation) of each pixel and its two neighbours, edge pixels repeating themselves.
+ * Row half of the 3×3 filter on packed rows: AND (erosion) or OR (dilation) of each pixel with its left and right
+ * neighbours, the row ends repeating themselves. The padding of the last word is filled with copies of the last pixel
+ * so that the right shift brings in the replicated edge, and is cleared again in the result.
  */
-function rowPass3(src: Uint8Array, dst: Uint8Array, width: number, height: number, erode: boolean): void {
+function rowPassBits(src: Int32Array, dst: Int32Array, width: number, height: number, erode: boolean): void {
+  const stride = wordsPerRow(width)
+  const tailMask = rowTailMask(width)
+  const lastPixelBit = (width - 1) & 31
+  const padded = (word: number) => ((word >>> lastPixelBit) & 1 ? word | ~tailMask : word)
   for (let y = 0; y < height; y++) {
-    const row = y * width
-    let previous = src[row] !== 0 ? 1 : 0
-    let current = previous
-    for (let x = 0; x < width; x++) {
-      const next = x + 1 < width ? (src[row + x + 1] !== 0 ? 1 : 0) : current
-      dst[row + x] = erode ? previous & current & next : previous | current | next
-      previous = current
+    const base = y * stride
+    const last = base + stride - 1
+    let current = base === last ? padded(src[base]) : src[base]
+    // The pixel left of x = 0 is pixel 0 itself.
+    let carryIn = current & 1
+    for (let i = base; i <= last; i++) {
+      // Right of the last word's bit 31 comes that bit itself (the last pixel or its padded copy).
+      const next = i < last ? (i + 1 === last ? padded(src[i + 1]) : src[i + 1]) : current >>> 31
+      const left = (current << 1) | carryIn
+      const right = (current >>> 1) | (next << 31)
+      const result = erode ? current & left & right : current | left | right
+      dst[i] = i === last ? result & tailMask : result
+      carryIn = current >>> 31
       current = next
     }
   }
 }
 
-/**
- * Column half of the 3×3 fast path on a 0/1 map: AND or OR of the rows above, at and below (edge rows repeated).
- * Four pixels at a time through 32-bit words when rows are whole words (bitwise AND/OR of 0/1 bytes stays 0/1).
- */
-function columnPass3(src: Uint8Array, dst: Uint8Array, width: number, height: number, erode: boolean): void {
-  const words = width % 4 === 0 && src.byteOffset % 4 === 0 && dst.byteOffset % 4 === 0
-  const a = words ? new Uint32Array(src.buffer, src.byteOffset, (width * height) >> 2) : src
-  const b = words ? new Uint32Array(dst.buffer, dst.byteOffset, (width * height) >> 2) : dst
-  const stride = words ? width >> 2 : width
+/** Column half of the 3×3 filter on packed rows: AND or OR of the rows above, at and below (edge rows repeated). */
+function columnPassBits(src: Int32Array, dst: Int32Array, width: number, height: number, erode: boolean): void {
+  const stride = wordsPerRow(width)
   for (let y = 0; y < height; y++) {
     const mid = y * stride
     const up = (y > 0 ? y - 1 : 0) * stride
     const down = (y + 1 < height ? y + 1 : y) * stride
-    if (erode) for (let j = 0; j < stride; j++) b[mid + j] = a[up + j] & a[mid + j] & a[down + j]
-    else for (let j = 0; j < stride; j++) b[mid + j] = a[up + j] | a[mid + j] | a[down + j]
+    if (erode) for (let j = 0; j < stride; j++) dst[mid + j] = src[up + j] & src[mid + j] & src[down + j]
+    else for (let j = 0; j < stride; j++) dst[mid + j] = src[up + j] | src[mid + j] | src[down + j]
   }
+}
+
+/** Packed mask and row-pass output of the 3×3 path, kept for the largest image seen (never returned). */
+let packed = new Int32Array(0)
+let packedRows = new Int32Array(0)
+
+/**
+ * 3×3 erosions (true) and dilations (false), applied in the order given and in place, to a mask packed as by
+ * packNonZero (connectedComponents.ts): [true, false] is an opening, [false, true] a closing. Edge replication as in
+ * erodeMask/dilateMask; the padding bits stay 0.
+ */
+export function squareFilter3Packed(words: Int32Array, width: number, height: number, erodeSteps: readonly boolean[]): void {
+  const count = wordsPerRow(width) * height
+  if (count === 0) return
+  if (packedRows.length < count) packedRows = new Int32Array(count)
+  for (const erode of erodeSteps) {
+    rowPassBits(words, packedRows, width, height, erode)
+    columnPassBits(packedRows, words, width, height, erode)
+  }
+}
+
+/** 3×3 erosion/dilation steps (see squareFilter3Packed) of `src` into `out` (0/1): one pack, one unpack. */
+function square3Into(src: Uint8Array, out: Uint8Array, width: number, height: number, erodeSteps: readonly boolean[]): void {
+  const count = wordsPerRow(width) * height
+  if (packed.length < count) packed = new Int32Array(count)
+  packNonZero(src, width, height, packed)
+  squareFilter3Packed(packed, width, height, erodeSteps)
+  unpackBits(packed, width, height, out)
 }
 
 /** Working buffers of the separable passes, kept for the largest image seen (results never alias them). */
@@ -128,13 +166,12 @@ function squareFilterInto(src: Uint8Array, out: Uint8Array, width: number, heigh
     for (let i = 0; i < width * height; i++) out[i] = src[i] !== 0 ? 1 : 0
     return
   }
-  const n = width * height
-  if (rowScratch.length < n) rowScratch = new Uint8Array(n)
   if (r === 1) {
-    rowPass3(src, rowScratch, width, height, erode)
-    columnPass3(rowScratch.subarray(0, n), out, width, height, erode)
+    square3Into(src, out, width, height, [erode])
     return
   }
+  const n = width * height
+  if (rowScratch.length < n) rowScratch = new Uint8Array(n)
   if (columnSums.length < width) columnSums = new Int32Array(width)
   const need = erode ? 2 * r + 1 : 1
   rowPass(src, rowScratch, width, height, r, need)
@@ -152,6 +189,11 @@ function squareFilter(mask: BinaryMask, radius: number, erode: boolean): BinaryM
 function squareFilterPair(mask: BinaryMask, radius: number, erodeFirst: boolean): BinaryMask {
   const { width, height } = mask
   const n = width * height
+  if (Math.floor(radius) === 1 && n > 0) {
+    const out = new Uint8Array(n)
+    square3Into(mask.data, out, width, height, [erodeFirst, !erodeFirst])
+    return withIgnore(mask, out)
+  }
   if (middleScratch.length < n) middleScratch = new Uint8Array(n)
   const out = new Uint8Array(n)
   squareFilterInto(mask.data, middleScratch, width, height, radius, erodeFirst)
