@@ -24,8 +24,11 @@
  * Output: widths in px, one per ridge pixel, up phase first; sampling density is one per row or column crossing of
  * the ridge, so ridges at 45° are weighted 1/√2 per unit length relative to axis-parallel ones.
  * Standard error: sd/√n over ridge pixels, which are correlated along the ridge, so it is a lower bound.
- * Buffers: per-pixel working arrays are kept for the last image size, so the frames of a stack allocate only their
- * results.
+ * Order of work: after the feature transform, one sweep down the rows computes the unit vectors one row ahead of the
+ * facing tests, selects the ridge pixels of the finished row and measures them at once, while the rows they read are
+ * still in cache.
+ * Buffers: per-pixel working arrays are kept for the last image size, and the ridge and width lists at their
+ * largest, so the frames of a stack allocate only their results.
  */
 import { featureTransformBothPhases } from './distanceTransform'
 import type { BinaryMask } from './types'
@@ -65,125 +68,63 @@ const RAY_STEP = 0.25
  */
 const RAY_HEAD_START = 0.75
 
-/** What a ray needs besides its direction. */
-interface RayContext {
-  data: Uint8Array
-  ignore: Uint8Array | undefined
-  width: number
-  height: number
-  value: number
-}
-
-/** Bilinear interpolation of the indicator (pixel == value) at a point inside the image. */
-function indicatorAt(c: RayContext, sx: number, sy: number): number {
-  const { data, width, height, value } = c
-  const x0 = Math.min(Math.floor(sx), Math.max(0, width - 2))
-  const y0 = Math.min(Math.floor(sy), Math.max(0, height - 2))
-  const x1 = Math.min(x0 + 1, width - 1)
-  const y1 = Math.min(y0 + 1, height - 1)
-  const fx = sx - x0
-  const fy = sy - y0
-  const v00 = data[y0 * width + x0] === value ? 1 : 0
-  const v01 = data[y0 * width + x1] === value ? 1 : 0
-  const v10 = data[y1 * width + x0] === value ? 1 : 0
-  const v11 = data[y1 * width + x1] === value ? 1 : 0
-  return (v00 * (1 - fx) + v01 * fx) * (1 - fy) + (v10 * (1 - fx) + v11 * fx) * fy
-}
-
-/**
- * Distance from pixel centre (x, y) along the unit direction (ux, uy) to the first point where the bilinear
- * indicator drops to 0.5 (the sub-pixel wall), or −1 when the ray leaves the image, meets an ignored pixel or passes
- * `limit` first. The march starts at `start`, before which no crossing is possible.
- */
-function crossingDistance(
-  c: RayContext,
-  x: number,
-  y: number,
-  ux: number,
-  uy: number,
-  start: number,
-  limit: number,
-): number {
-  const { width, height, ignore, data, value } = c
-  const maxX = width - 1
-  const maxY = height - 1
-  const x0 = x + start * ux
-  const y0 = y + start * uy
-  if (x0 < 0 || y0 < 0 || x0 > maxX || y0 > maxY) return -1
-  let previous = start > 0 ? indicatorAt(c, x0, y0) : 1
-  // Rounding can put the start exactly on the level; the crossing is then the start itself.
-  if (previous <= 0.5) return start
-  // indicatorAt inlined (same arithmetic): the march is the hot loop of the width measurement.
-  const cellMaxX = Math.max(0, width - 2)
-  const cellMaxY = Math.max(0, height - 2)
-  for (let t = start + RAY_STEP; t <= limit; t += RAY_STEP) {
-    const sx = x + t * ux
-    const sy = y + t * uy
-    if (sx < 0 || sy < 0 || sx > maxX || sy > maxY) return -1
-    if (ignore !== undefined && ignore[Math.round(sy) * width + Math.round(sx)] !== 0) return -1
-    const fx0 = Math.floor(sx)
-    const fy0 = Math.floor(sy)
-    const cx = fx0 < cellMaxX ? fx0 : cellMaxX
-    const cy = fy0 < cellMaxY ? fy0 : cellMaxY
-    const cx1 = cx + 1 < maxX ? cx + 1 : maxX
-    const cy1 = cy + 1 < maxY ? cy + 1 : maxY
-    const fx = sx - cx
-    const fy = sy - cy
-    const top = cy * width
-    const bottom = cy1 * width
-    const v00 = data[top + cx] === value ? 1 : 0
-    const v01 = data[top + cx1] === value ? 1 : 0
-    const v10 = data[bottom + cx] === value ? 1 : 0
-    const v11 = data[bottom + cx1] === value ? 1 : 0
-    const current = (v00 * (1 - fx) + v01 * fx) * (1 - fy) + (v10 * (1 - fx) + v11 * fx) * fy
-    if (current <= 0.5) return t - RAY_STEP + (RAY_STEP * (previous - 0.5)) / (previous - current)
-    previous = current
-  }
-  return -1
-}
-
-/** Facing-wall structure of one phase: EDT, unit vectors from the nearest wall, and each pixel's facing partner. */
+/** Facing-wall structure of both phases: EDT, unit vectors from the nearest wall, and each pixel's facing partner. */
 interface FacingPairs {
   distance: Float32Array
   nearest: Int32Array
   nx: Float32Array
   ny: Float32Array
+  /** Most opposite cosine found so far per pixel; starts at FACING_COS and only decreases. */
+  bestDot: Float32Array
   /** Neighbour whose wall vector is most opposite (cosine < FACING_COS), or −1: the medial-axis candidates. */
   partner: Int32Array
 }
 
-/** Facing test of one neighbour pair of the same phase; each pair is visited once and may update both pixels. */
-function comparePair(
-  p: number,
-  q: number,
-  data: Uint8Array,
-  nx: Float32Array,
-  ny: Float32Array,
-  bestDot: Float32Array,
-  partner: Int32Array,
-): void {
-  if (data[q] !== data[p]) return
-  const dot = nx[p] * nx[q] + ny[p] * ny[q]
-  if (dot < bestDot[p]) {
-    bestDot[p] = dot
-    partner[p] = q
+/** Phase values, down and up: also the index of per-phase lists. */
+const PHASES = [0, 1] as const
+
+/** Growable list of pixel indices, kept across frames. */
+class PixelList {
+  items = new Int32Array(1024)
+  length = 0
+
+  push(p: number): void {
+    if (this.length === this.items.length) {
+      const grown = new Int32Array(2 * this.items.length)
+      grown.set(this.items)
+      this.items = grown
+    }
+    this.items[this.length++] = p
   }
-  if (dot < bestDot[q]) {
-    bestDot[q] = dot
-    partner[q] = p
+}
+
+/** Growable list of widths and their pixels, kept across frames. */
+class WidthList {
+  widths = new Float32Array(1024)
+  index = new Int32Array(1024)
+  length = 0
+
+  push(p: number, width: number): void {
+    if (this.length === this.widths.length) {
+      const widths = new Float32Array(2 * this.widths.length)
+      const index = new Int32Array(2 * this.index.length)
+      widths.set(this.widths)
+      index.set(this.index)
+      this.widths = widths
+      this.index = index
+    }
+    this.widths[this.length] = width
+    this.index[this.length] = p
+    this.length++
   }
 }
 
 /** Per-pixel working arrays, kept for the last image size (frames of a stack share them; results are copied out). */
-interface Scratch {
-  distance: Float32Array
-  nearest: Int32Array
-  nx: Float32Array
-  ny: Float32Array
-  bestDot: Float32Array
-  partner: Int32Array
-  widths: Float32Array
-  index: Int32Array
+interface Scratch extends FacingPairs {
+  /** Ridge pixels chosen for the 'ray' estimator, per phase (index = phase value), in the order their runs end. */
+  chosen: [PixelList, PixelList]
+  /** Widths per phase (index = phase value). */
+  measured: [WidthList, WidthList]
 }
 
 let scratch: Scratch | null = null
@@ -197,56 +138,142 @@ function scratchFor(n: number): Scratch {
       ny: new Float32Array(n),
       bestDot: new Float32Array(n),
       partner: new Int32Array(n),
-      widths: new Float32Array(n),
-      index: new Int32Array(n),
+      chosen: [new PixelList(), new PixelList()],
+      measured: [new WidthList(), new WidthList()],
     }
   }
   return scratch
 }
 
+/** Unit vectors n̂ = (p − nearest wall pixel) / d(p) of one row; (0, 0) where the wall phase is absent. */
+function unitVectorsRow(
+  width: number,
+  y: number,
+  distance: Float32Array,
+  nearest: Int32Array,
+  nx: Float32Array,
+  ny: Float32Array,
+): void {
+  const row = y * width
+  for (let x = 0; x < width; x++) {
+    const i = row + x
+    const f = nearest[i]
+    if (f < 0) {
+      nx[i] = 0
+      ny[i] = 0
+      continue
+    }
+    const fy = (f / width) | 0
+    const d = distance[i]
+    nx[i] = (x - (f - fy * width)) / d
+    ny[i] = (y - fy) / d
+  }
+}
+
+/** Facing test of one neighbour pair of the same phase; each pair is visited once and may update both pixels. */
+function comparePair(
+  p: number,
+  q: number,
+  dot: number,
+  data: Uint8Array,
+  bestDot: Float32Array,
+  partner: Int32Array,
+): void {
+  if (data[q] !== data[p]) return
+  if (dot < bestDot[p]) {
+    bestDot[p] = dot
+    partner[p] = q
+  }
+  if (dot < bestDot[q]) {
+    bestDot[q] = dot
+    partner[q] = p
+  }
+}
+
 /**
- * Facing-wall structure of both phases at once (a pixel's wall is the other phase, its partner is of its own phase):
- * one feature transform, one pass for the unit vectors and one over the forward half of the 8-neighbourhood.
+ * Facing tests of row y with the forward half of each pixel's 8-neighbourhood: right, and the three pixels of the
+ * next row. Every best is already ≤ FACING_COS, so a pair with a larger cosine (most pairs) cannot change anything
+ * and skips the phase test and both updates. Inside the row the unit vectors of the right and lower neighbours are
+ * carried from pixel to pixel, so each is loaded once.
  */
-function facingPairs(mask: BinaryMask, buffers: Scratch): FacingPairs {
+function facingRow(f: FacingPairs, data: Uint8Array, width: number, y: number, hasNextRow: boolean): void {
+  const row = y * width
+  if (!hasNextRow || width < 3) {
+    for (let x = 0; x < width; x++) facingPixel(f, data, width, row + x, x, hasNextRow)
+    return
+  }
+  const { nx, ny, bestDot, partner } = f
+  facingPixel(f, data, width, row, 0, true)
+  let px = nx[row + 1]
+  let py = ny[row + 1]
+  let belowLeftX = nx[row + width]
+  let belowLeftY = ny[row + width]
+  let belowX = nx[row + width + 1]
+  let belowY = ny[row + width + 1]
+  for (let p = row + 1; p < row + width - 1; p++) {
+    const below = p + width
+    const rightX = nx[p + 1]
+    const rightY = ny[p + 1]
+    const belowRightX = nx[below + 1]
+    const belowRightY = ny[below + 1]
+    let dot = px * rightX + py * rightY
+    if (dot < FACING_COS) comparePair(p, p + 1, dot, data, bestDot, partner)
+    dot = px * belowLeftX + py * belowLeftY
+    if (dot < FACING_COS) comparePair(p, below - 1, dot, data, bestDot, partner)
+    dot = px * belowX + py * belowY
+    if (dot < FACING_COS) comparePair(p, below, dot, data, bestDot, partner)
+    dot = px * belowRightX + py * belowRightY
+    if (dot < FACING_COS) comparePair(p, below + 1, dot, data, bestDot, partner)
+    px = rightX
+    py = rightY
+    belowLeftX = belowX
+    belowLeftY = belowY
+    belowX = belowRightX
+    belowY = belowRightY
+  }
+  facingPixel(f, data, width, row + width - 1, width - 1, true)
+}
+
+/** Facing tests of pixel p (column x) with its forward neighbours, for the ends of a row and the last row. */
+function facingPixel(f: FacingPairs, data: Uint8Array, width: number, p: number, x: number, hasNextRow: boolean): void {
+  const { nx, ny, bestDot, partner } = f
+  const px = nx[p]
+  const py = ny[p]
+  const hasRight = x + 1 < width
+  if (hasRight) {
+    const dot = px * nx[p + 1] + py * ny[p + 1]
+    if (dot < FACING_COS) comparePair(p, p + 1, dot, data, bestDot, partner)
+  }
+  if (!hasNextRow) return
+  const below = p + width
+  if (x > 0) {
+    const dot = px * nx[below - 1] + py * ny[below - 1]
+    if (dot < FACING_COS) comparePair(p, below - 1, dot, data, bestDot, partner)
+  }
+  const dot = px * nx[below] + py * ny[below]
+  if (dot < FACING_COS) comparePair(p, below, dot, data, bestDot, partner)
+  if (hasRight) {
+    const dot = px * nx[below + 1] + py * ny[below + 1]
+    if (dot < FACING_COS) comparePair(p, below + 1, dot, data, bestDot, partner)
+  }
+}
+
+/** Starts the facing structure: the feature transform of both phases and no partners yet. */
+function startFacingPairs(mask: BinaryMask, buffers: Scratch): void {
   const { width, height, data } = mask
   const n = width * height
-  const { distance, nearest } = featureTransformBothPhases(data, width, height, {
-    out: buffers.distance,
-    nearestOut: buffers.nearest,
-  })
-  const { nx, ny, bestDot, partner } = buffers
-  for (let y = 0; y < height; y++) {
-    for (let x = 0; x < width; x++) {
-      const i = y * width + x
-      const f = nearest[i]
-      if (f < 0) {
-        nx[i] = 0
-        ny[i] = 0
-        continue
-      }
-      const fy = (f / width) | 0
-      const d = distance[i]
-      nx[i] = (x - (f - fy * width)) / d
-      ny[i] = (y - fy) / d
-    }
-  }
-  bestDot.fill(FACING_COS, 0, n)
-  partner.fill(-1, 0, n)
-  // Forward half of the 8-neighbourhood: right, and the three pixels of the next row.
-  for (let y = 0; y < height; y++) {
-    const lastRow = y === height - 1
-    for (let x = 0; x < width; x++) {
-      const p = y * width + x
-      if (x + 1 < width) comparePair(p, p + 1, data, nx, ny, bestDot, partner)
-      if (lastRow) continue
-      const below = p + width
-      if (x > 0) comparePair(p, below - 1, data, nx, ny, bestDot, partner)
-      comparePair(p, below, data, nx, ny, bestDot, partner)
-      if (x + 1 < width) comparePair(p, below + 1, data, nx, ny, bestDot, partner)
-    }
-  }
-  return { distance, nearest, nx, ny, partner }
+  featureTransformBothPhases(data, width, height, { out: buffers.distance, nearestOut: buffers.nearest })
+  buffers.bestDot.fill(FACING_COS, 0, n)
+  buffers.partner.fill(-1, 0, n)
+  if (height > 0) unitVectorsRow(width, 0, buffers.distance, buffers.nearest, buffers.nx, buffers.ny)
+}
+
+/** Facing tests of row y, after the unit vectors of row y + 1 they need: the partners of row y are then final. */
+function facingPairsRow(mask: BinaryMask, f: FacingPairs, y: number): void {
+  const { width, height, data } = mask
+  const hasNextRow = y + 1 < height
+  if (hasNextRow) unitVectorsRow(width, y + 1, f.distance, f.nearest, f.nx, f.ny)
+  facingRow(f, data, width, y, hasNextRow)
 }
 
 /** True when pixel p, its partner or either of their nearest walls is ignored. */
@@ -256,132 +283,327 @@ function touchesIgnored(ignore: Uint8Array | undefined, f: FacingPairs, p: numbe
   return ignore[p] !== 0 || ignore[q] !== 0 || ignore[f.nearest[p]] !== 0 || ignore[f.nearest[q]] !== 0
 }
 
-/** Growable output of ridge widths shared by both phases. */
-interface RidgeOutput {
-  widths: Float32Array
-  index: Int32Array
-  count: number
-}
-
 /** 'centre' estimator: w = 2·d − 1 at medial pixels that are not closer to their wall than their partner. */
-function centreWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, out: RidgeOutput): void {
+function centreWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, out: WidthList): void {
   const n = mask.width * mask.height
   for (let p = 0; p < n; p++) {
     const q = f.partner[p]
     if (q < 0 || mask.data[p] !== value || f.distance[p] < f.distance[q] || touchesIgnored(mask.ignore, f, p)) continue
-    out.widths[out.count] = 2 * f.distance[p] - 1
-    out.index[out.count] = p
-    out.count++
+    out.push(p, 2 * f.distance[p] - 1)
   }
 }
 
+/** Open runs of the ridge selection carried from row to row: the best pixel (−1: none) of each column's run. */
+interface ColumnRuns {
+  best: Int32Array
+  offset: Float64Array
+}
+
 /**
- * Medial pixels chosen for the 'ray' estimator: in every run of consecutive candidates along a row (wall normal
- * closer to x) or a column (closer to y), the pixel nearest the midline. The midline offset is estimated from the
- * EDT, ½·(d(q) + (q − p)·n̂_p − d(p)); its exact value only decides which pixel of the run is used, not how many.
- * Both phases in one sweep: a pixel of one phase ends the other phase's runs. Returns [up pixels, down pixels].
+ * Medial pixels chosen for the 'ray' estimator, one row at a time: in every run of consecutive candidates along a
+ * row (wall normal closer to x) or a column (closer to y), the pixel nearest the midline. The midline offset is
+ * estimated from the EDT, ½·(d(q) + (q − p)·n̂_p − d(p)); its exact value only decides which pixel of the run is used,
+ * not how many. Both phases in one sweep: a pixel of one phase ends the other phase's runs, so at most one run (of
+ * either phase) is open along the row and in each column, and its phase is that of its best pixel. A run's pixel
+ * joins `chosen[phase]` when the run ends.
  */
-function selectRidge(mask: BinaryMask, f: FacingPairs): [Int32Array, Int32Array] {
-  const { width, height, ignore, data } = mask
+function selectRidgeRow(
+  mask: BinaryMask,
+  f: FacingPairs,
+  y: number,
+  columns: ColumnRuns,
+  chosen: [PixelList, PixelList],
+): void {
+  const { width, ignore, data } = mask
   const { distance, nx, ny, partner } = f
-  const chosen: [number[], number[]] = [[], []]
-  // Per phase (index = phase value): best pixel of the open row run and of each column's open run.
-  const rowBest = [-1, -1]
-  const rowBestOffset = [0, 0]
-  const colBest = [new Int32Array(width).fill(-1), new Int32Array(width).fill(-1)]
-  const colBestOffset = [new Float64Array(width), new Float64Array(width)]
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    for (let x = 0; x < width; x++) {
-      const p = row + x
-      const value = data[p] !== 0 ? 1 : 0
-      const q = partner[p]
-      let axis = 0
-      let offset = 0
-      if (q >= 0 && !touchesIgnored(ignore, f, p)) {
-        const qy = (q / width) | 0
-        const qx = q - qy * width
-        offset = Math.abs(0.5 * (distance[q] + (qx - x) * nx[p] + (qy - y) * ny[p] - distance[p]))
-        axis = Math.abs(nx[p]) >= Math.abs(ny[p]) ? 1 : 2
+  const colBest = columns.best
+  const colBestOffset = columns.offset
+  const row = y * width
+  let rowBest = -1
+  let rowBestOffset = 0
+  for (let x = 0; x < width; x++) {
+    const p = row + x
+    const q = partner[p]
+    if (q < 0) {
+      // Not a candidate (most pixels): both open runs end here.
+      if (rowBest >= 0) {
+        endRun(chosen, data, rowBest)
+        rowBest = -1
       }
-      const other = 1 - value
-      // The other phase has no candidate here: its open runs end.
-      if (rowBest[other] >= 0) {
-        chosen[other].push(rowBest[other])
-        rowBest[other] = -1
+      if (colBest[x] >= 0) {
+        endRun(chosen, data, colBest[x])
+        colBest[x] = -1
       }
-      const otherCol = colBest[other]
-      if (otherCol[x] >= 0) {
-        chosen[other].push(otherCol[x])
-        otherCol[x] = -1
-      }
-      if (axis === 1) {
-        if (rowBest[value] < 0 || offset < rowBestOffset[value]) {
-          rowBest[value] = p
-          rowBestOffset[value] = offset
-        }
-      } else if (rowBest[value] >= 0) {
-        chosen[value].push(rowBest[value])
-        rowBest[value] = -1
-      }
-      const col = colBest[value]
-      const colOffset = colBestOffset[value]
-      if (axis === 2) {
-        if (col[x] < 0 || offset < colOffset[x]) {
-          col[x] = p
-          colOffset[x] = offset
-        }
-      } else if (col[x] >= 0) {
-        chosen[value].push(col[x])
-        col[x] = -1
-      }
+      continue
     }
-    for (const value of [0, 1]) {
-      if (rowBest[value] >= 0) chosen[value].push(rowBest[value])
-      rowBest[value] = -1
+    const value = phaseOf(data, p)
+    let axis = 0
+    let offset = 0
+    if (!touchesIgnored(ignore, f, p)) {
+      const qy = (q / width) | 0
+      const qx = q - qy * width
+      offset = Math.abs(0.5 * (distance[q] + (qx - x) * nx[p] + (qy - y) * ny[p] - distance[p]))
+      axis = Math.abs(nx[p]) >= Math.abs(ny[p]) ? 1 : 2
+    }
+    if (rowBest >= 0 && (axis !== 1 || phaseOf(data, rowBest) !== value)) {
+      endRun(chosen, data, rowBest)
+      rowBest = -1
+    }
+    if (axis === 1 && (rowBest < 0 || offset < rowBestOffset)) {
+      rowBest = p
+      rowBestOffset = offset
+    }
+    const c = colBest[x]
+    if (c >= 0 && (axis !== 2 || phaseOf(data, c) !== value)) {
+      endRun(chosen, data, c)
+      colBest[x] = -1
+    }
+    if (axis === 2 && (colBest[x] < 0 || offset < colBestOffset[x])) {
+      colBest[x] = p
+      colBestOffset[x] = offset
     }
   }
-  for (const value of [0, 1]) for (let x = 0; x < width; x++) if (colBest[value][x] >= 0) chosen[value].push(colBest[value][x])
-  return [Int32Array.from(chosen[1]), Int32Array.from(chosen[0])]
+  if (rowBest >= 0) endRun(chosen, data, rowBest)
+}
+
+/** Phase of pixel p, 1 (up, any nonzero byte) or 0, without a branch: the sign bit of −byte. */
+function phaseOf(data: Uint8Array, p: number): number {
+  return -data[p] >>> 31
+}
+
+/** A run ends: its best pixel joins the chosen pixels of its phase. */
+function endRun(chosen: [PixelList, PixelList], data: Uint8Array, best: number): void {
+  chosen[phaseOf(data, best)].push(best)
+}
+
+/** Ends the column runs still open after the last row. */
+function endColumnRuns(data: Uint8Array, columns: ColumnRuns, chosen: [PixelList, PixelList]): void {
+  for (let x = 0; x < columns.best.length; x++) {
+    if (columns.best[x] >= 0) endRun(chosen, data, columns.best[x])
+  }
 }
 
 /**
- * 'ray' estimator at the chosen pixels. Wall normal: mean of the 3×3 same-phase unit vectors, each flipped onto
- * n̂_p's side of the ridge (one vector is quantised to the direction of a single pixel; the mean roughly halves the
- * angular error, and a residual error δ only lengthens the chord by 1/cos δ).
+ * Distance from pixel centre (x, y) along the unit direction (ux, uy) to the first point where the bilinear
+ * indicator (pixel == value) drops to 0.5 (the sub-pixel wall), or −1 when the ray leaves the image, meets an
+ * ignored pixel or passes `limit` first. The march starts at `start`, before which no crossing is possible.
  */
-function rayWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, chosen: Int32Array, out: RidgeOutput): void {
+function crossingDistance(
+  mask: BinaryMask,
+  value: number,
+  x: number,
+  y: number,
+  ux: number,
+  uy: number,
+  start: number,
+  limit: number,
+): number {
   const { width, height, data, ignore } = mask
-  const { distance, nx, ny, partner } = f
-  const ray: RayContext = { data, ignore, width, height, value }
-  for (const p of chosen) {
-    const y = (p / width) | 0
-    const x = p - y * width
-    let ux = 0
-    let uy = 0
-    for (let yy = Math.max(0, y - 1); yy <= Math.min(height - 1, y + 1); yy++) {
-      for (let xx = Math.max(0, x - 1); xx <= Math.min(width - 1, x + 1); xx++) {
-        const r = yy * width + xx
-        if (data[r] !== value) continue
-        const sign = nx[r] * nx[p] + ny[r] * ny[p] >= 0 ? 1 : -1
-        ux += sign * nx[r]
-        uy += sign * ny[r]
-      }
+  // A ray that ends more than a pixel inside the image (|ux|, |uy| ≤ 1) needs no bounds or edge-cell checks.
+  const reach = limit + 1
+  if (ignore === undefined && x > reach && y > reach && x + reach < width - 1 && y + reach < height - 1) {
+    return interiorCrossing(data, width, value, x, y, ux, uy, start, limit)
+  }
+  const maxX = width - 1
+  const maxY = height - 1
+  const x0 = x + start * ux
+  const y0 = y + start * uy
+  if (x0 < 0 || y0 < 0 || x0 > maxX || y0 > maxY) return -1
+  const cellMaxX = Math.max(0, width - 2)
+  const cellMaxY = Math.max(0, height - 2)
+  let previous = 1
+  if (start > 0) {
+    const cx = Math.min(Math.floor(x0), cellMaxX)
+    const cy = Math.min(Math.floor(y0), cellMaxY)
+    previous = bilinearAt(data, width, value, cx, cy, Math.min(cx + 1, maxX), Math.min(cy + 1, maxY), x0 - cx, y0 - cy)
+  }
+  // Rounding can put the start exactly on the level; the crossing is then the start itself.
+  if (previous <= 0.5) return start
+  for (let t = start + RAY_STEP; t <= limit; t += RAY_STEP) {
+    const sx = x + t * ux
+    const sy = y + t * uy
+    if (sx < 0 || sy < 0 || sx > maxX || sy > maxY) return -1
+    if (ignore !== undefined && ignore[Math.round(sy) * width + Math.round(sx)] !== 0) return -1
+    const fx0 = Math.floor(sx)
+    const fy0 = Math.floor(sy)
+    const cx = fx0 < cellMaxX ? fx0 : cellMaxX
+    const cy = fy0 < cellMaxY ? fy0 : cellMaxY
+    const cx1 = cx + 1 < maxX ? cx + 1 : maxX
+    const cy1 = cy + 1 < maxY ? cy + 1 : maxY
+    const current = bilinearAt(data, width, value, cx, cy, cx1, cy1, sx - cx, sy - cy)
+    if (current <= 0.5) return t - RAY_STEP + (RAY_STEP * (previous - 0.5)) / (previous - current)
+    previous = current
+  }
+  return -1
+}
+
+/**
+ * `crossingDistance` for a ray known to stay inside the image, off its last row and column: every cell is whole and
+ * its coordinates are positive, so truncation is the floor. A step whose four cell corners all equal `value`
+ * interpolates to about 1 and cannot cross 0.5; its value is needed only as the `previous` of a crossing at the next
+ * step, so it is interpolated then, from the remembered sample point.
+ */
+function interiorCrossing(
+  data: Uint8Array,
+  width: number,
+  value: number,
+  x: number,
+  y: number,
+  ux: number,
+  uy: number,
+  start: number,
+  limit: number,
+): number {
+  let previous = 1
+  if (start > 0) {
+    const x0 = x + start * ux
+    const y0 = y + start * uy
+    const cx = x0 | 0
+    const cy = y0 | 0
+    previous = bilinearAt(data, width, value, cx, cy, cx + 1, cy + 1, x0 - cx, y0 - cy)
+  }
+  if (previous <= 0.5) return start
+  let previousKnown = true
+  let previousX = 0
+  let previousY = 0
+  for (let t = start + RAY_STEP; t <= limit; t += RAY_STEP) {
+    const sx = x + t * ux
+    const sy = y + t * uy
+    const cx = sx | 0
+    const cy = sy | 0
+    const top = cy * width + cx
+    const bottom = top + width
+    const b00 = data[top] ^ value
+    const b01 = data[top + 1] ^ value
+    const b10 = data[bottom] ^ value
+    const b11 = data[bottom + 1] ^ value
+    if ((b00 | b01 | b10 | b11) === 0) {
+      previousKnown = false
+      previousX = sx
+      previousY = sy
+      continue
     }
-    const norm = Math.hypot(ux, uy)
-    ux /= norm
-    uy /= norm
-    const dp = distance[p]
-    const start = Math.max(0, dp - RAY_HEAD_START)
-    const limit = 2 * (dp + distance[partner[p]]) + 4
-    // u points away from p's own wall, towards the facing one; every wall point is at least d(p) − √2/2 away.
-    const toFacingWall = crossingDistance(ray, x, y, ux, uy, start, limit)
-    if (toFacingWall < 0) continue
-    const toOwnWall = crossingDistance(ray, x, y, -ux, -uy, start, limit)
-    if (toOwnWall < 0) continue
-    out.widths[out.count] = toFacingWall + toOwnWall
-    out.index[out.count] = p
-    out.count++
+    const current = bilinear(indicator(b00), indicator(b01), indicator(b10), indicator(b11), sx - cx, sy - cy)
+    if (current <= 0.5) {
+      if (!previousKnown) {
+        const px = previousX | 0
+        const py = previousY | 0
+        previous = bilinearAt(data, width, value, px, py, px + 1, py + 1, previousX - px, previousY - py)
+      }
+      return t - RAY_STEP + (RAY_STEP * (previous - 0.5)) / (previous - current)
+    }
+    previous = current
+    previousKnown = true
+  }
+  return -1
+}
+
+/** Indicator from byte ^ value (0…255): 1 where the byte equals value, the sign bit of (byte ^ value) − 1. */
+function indicator(difference: number): number {
+  return (difference - 1) >>> 31
+}
+
+/** Bilinear interpolation of the corner indicators i00 (top left), i01, i10, i11 at fractions (fx, fy). */
+function bilinear(i00: number, i01: number, i10: number, i11: number, fx: number, fy: number): number {
+  return (i00 * (1 - fx) + i01 * fx) * (1 - fy) + (i10 * (1 - fx) + i11 * fx) * fy
+}
+
+/** Bilinear interpolation of the indicator (pixel == value) in the cell (cx…cx1, cy…cy1) at fractions (fx, fy). */
+function bilinearAt(
+  data: Uint8Array,
+  width: number,
+  value: number,
+  cx: number,
+  cy: number,
+  cx1: number,
+  cy1: number,
+  fx: number,
+  fy: number,
+): number {
+  const top = cy * width
+  const bottom = cy1 * width
+  return bilinear(
+    indicator(data[top + cx] ^ value),
+    indicator(data[top + cx1] ^ value),
+    indicator(data[bottom + cx] ^ value),
+    indicator(data[bottom + cx1] ^ value),
+    fx,
+    fy,
+  )
+}
+
+/**
+ * 'ray' estimator at a chosen pixel p of phase `value`, or −1 when a ray is dropped. Wall normal: mean of the 3×3
+ * same-phase unit vectors, each flipped onto n̂_p's side of the ridge (one vector is quantised to the direction of a
+ * single pixel; the mean roughly halves the angular error, and a residual error δ only lengthens the chord by
+ * 1/cos δ).
+ */
+function rayWidth(mask: BinaryMask, value: 0 | 1, f: FacingPairs, p: number): number {
+  const { width, height, data } = mask
+  const { distance, nx, ny } = f
+  const y = (p / width) | 0
+  const x = p - y * width
+  const npx = nx[p]
+  const npy = ny[p]
+  let ux = 0
+  let uy = 0
+  const xFrom = x > 0 ? x - 1 : 0
+  const xTo = x < width - 1 ? x + 1 : width - 1
+  const yTo = y < height - 1 ? y + 1 : height - 1
+  for (let yy = y > 0 ? y - 1 : 0; yy <= yTo; yy++) {
+    for (let r = yy * width + xFrom; r <= yy * width + xTo; r++) {
+      if (data[r] !== value) continue
+      // The sign of n̂_r·n̂_p (+1 for ±0) as a quotient, not a branch (which mispredicts here). Adding 1e-300 only
+      // turns ±0 positive: a nonzero dot of two of these float32 unit vectors is above 1e-25.
+      const dot = nx[r] * npx + ny[r] * npy + 1e-300
+      const sign = dot / Math.abs(dot)
+      ux += sign * nx[r]
+      uy += sign * ny[r]
+    }
+  }
+  const norm = hypot(ux, uy)
+  ux /= norm
+  uy /= norm
+  const dp = distance[p]
+  const start = Math.max(0, dp - RAY_HEAD_START)
+  const limit = 2 * (dp + distance[f.partner[p]]) + 4
+  // u points away from p's own wall, towards the facing one; every wall point is at least d(p) − √2/2 away.
+  const toFacingWall = crossingDistance(mask, value, x, y, ux, uy, start, limit)
+  if (toFacingWall < 0) return -1
+  const toOwnWall = crossingDistance(mask, value, x, y, -ux, -uy, start, limit)
+  if (toOwnWall < 0) return -1
+  return toFacingWall + toOwnWall
+}
+
+/**
+ * √(a² + b²) computed as V8's Math.hypot does for two finite arguments (both scaled by the larger magnitude, squares
+ * summed in argument order), so the widths stay bit-identical; inline, it avoids the cost of the builtin call.
+ */
+function hypot(a: number, b: number): number {
+  const absA = Math.abs(a)
+  const absB = Math.abs(b)
+  const max = absB > absA ? absB : absA
+  if (max === 0) return 0
+  const scaledA = absA / max
+  const scaledB = absB / max
+  return Math.sqrt(scaledA * scaledA + scaledB * scaledB) * max
+}
+
+/** Measures the pixels chosen since the last call (`measuredUpTo` per phase) with the 'ray' estimator. */
+function measureChosen(
+  mask: BinaryMask,
+  f: FacingPairs,
+  chosen: [PixelList, PixelList],
+  measuredUpTo: [number, number],
+  out: [WidthList, WidthList],
+): void {
+  for (const value of PHASES) {
+    const { items, length } = chosen[value]
+    for (let k = measuredUpTo[value]; k < length; k++) {
+      const w = rayWidth(mask, value, f, items[k])
+      if (w >= 0) out[value].push(items[k], w)
+    }
+    measuredUpTo[value] = length
   }
 }
 
@@ -396,7 +618,7 @@ function mean(values: Float32Array, from: number, to: number): number | null {
 function median(values: Float32Array): number | null {
   const n = values.length
   if (n === 0) return null
-  const work = Float64Array.from(values)
+  const work = new Float64Array(values)
   const m = n >> 1
   const upper = selectKth(work, m)
   if (n % 2 === 1) return upper
@@ -444,22 +666,38 @@ function selectKth(a: Float64Array, k: number): number {
  */
 export function localDomainWidths(mask: BinaryMask, options: LocalWidthOptions = {}): LocalWidthResult {
   const { width, height } = mask
-  const centre = options.estimator === 'centre'
   // Degenerate input needs no branch: with one phase absent the feature transform has no nearest wall (−1), so no
   // pixel gets a facing partner and the statistics below come out empty/null; an empty mask has no pixel at all.
-  // A pixel is a ridge pixel of at most one phase, so width·height slots hold both phases.
-  const buffers = scratchFor(width * height)
-  const out: RidgeOutput = { widths: buffers.widths, index: buffers.index, count: 0 }
-  let upCount = 0
-  const pairs = facingPairs(mask, buffers)
-  const ridges = centre ? null : selectRidge(mask, pairs)
-  for (const value of [1, 0] as const) {
-    if (ridges === null) centreWidths(mask, value, pairs, out)
-    else rayWidths(mask, value, pairs, ridges[1 - value], out)
-    if (value === 1) upCount = out.count
+  const f = scratchFor(width * height)
+  const [down, up] = f.measured
+  down.length = 0
+  up.length = 0
+  startFacingPairs(mask, f)
+  if (options.estimator === 'centre') {
+    for (let y = 0; y < height; y++) facingPairsRow(mask, f, y)
+    centreWidths(mask, 1, f, up)
+    centreWidths(mask, 0, f, down)
+  } else {
+    f.chosen[0].length = 0
+    f.chosen[1].length = 0
+    const measuredUpTo: [number, number] = [0, 0]
+    const columns: ColumnRuns = { best: new Int32Array(width).fill(-1), offset: new Float64Array(width) }
+    for (let y = 0; y < height; y++) {
+      facingPairsRow(mask, f, y)
+      selectRidgeRow(mask, f, y, columns, f.chosen)
+      measureChosen(mask, f, f.chosen, measuredUpTo, f.measured)
+    }
+    endColumnRuns(mask.data, columns, f.chosen)
+    measureChosen(mask, f, f.chosen, measuredUpTo, f.measured)
   }
-  const total = out.count
-  const widthsPx = out.widths.slice(0, total)
+  const upCount = up.length
+  const total = upCount + down.length
+  const widthsPx = new Float32Array(total)
+  widthsPx.set(up.widths.subarray(0, upCount))
+  widthsPx.set(down.widths.subarray(0, down.length), upCount)
+  const ridgeIndex = new Int32Array(total)
+  ridgeIndex.set(up.index.subarray(0, upCount))
+  ridgeIndex.set(down.index.subarray(0, down.length), upCount)
   const ridgePhase = new Uint8Array(total)
   ridgePhase.fill(1, 0, upCount)
   const meanPx = mean(widthsPx, 0, total)
@@ -476,7 +714,7 @@ export function localDomainWidths(mask: BinaryMask, options: LocalWidthOptions =
     stdErrPx,
     upMeanPx: mean(widthsPx, 0, upCount),
     downMeanPx: mean(widthsPx, upCount, total),
-    ridgeIndex: out.index.slice(0, total),
+    ridgeIndex,
     ridgePhase,
   }
 }
