@@ -81,7 +81,8 @@ export function apiRoute<P extends ZodType = ZodType, Q extends ZodType = ZodTyp
         body: parseOr400(spec.body, req.body ?? {}, 'body'),
       }
       const result = await spec.handler(req, res, input as never)
-      if (!res.headersSent && result !== undefined) res.json(result)
+      // A handler that answered itself may return the response (`res.status(201).json(…)`): never serialise that.
+      if (!res.headersSent && result !== undefined && result !== res) res.json(result)
     } catch (err) {
       next(err)
     }

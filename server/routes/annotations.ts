@@ -155,7 +155,7 @@ export function registerAnnotationRoutes(api: ApiDefinition, annotations: Annota
     access: 'signed-in',
     params: frameParams,
     responses: { 200: { description: 'The analysis, or null when the frame has none', schema: AnalysisSchema.nullable() }, 404: { description: 'No such frame' } },
-    handler: async (req, res, { params }) => res.json(await annotations.latestAnalysis(currentUser(req), params.frameId)),
+    handler: (req, _res, { params }) => annotations.latestAnalysis(currentUser(req), params.frameId),
   })
 
   apiRoute(api, {
