@@ -38,22 +38,7 @@ export function domainContrast(image: GrayImage | FloatImage, mask: BinaryMask):
   const { data } = image
   const phase = mask.data
   const ignore = mask.ignore
-  // Per-phase sums in locals (index 0 = down, 1 = up), added in raster order.
-  let sum0 = 0
-  let sum1 = 0
-  let count0 = 0
-  let count1 = 0
-  for (let i = 0; i < n; i++) {
-    const v = data[i]
-    if ((ignore !== undefined && ignore[i]) || !Number.isFinite(v)) continue
-    if (phase[i] !== 0) {
-      sum1 += v
-      count1++
-    } else {
-      sum0 += v
-      count0++
-    }
-  }
+  const { sum0, sum1, count0, count1, allAnalysed } = analysedPhaseSums(data, phase, ignore, n)
   const sums = [sum0, sum1]
   const counts = [count0, count1]
   // An empty phase (all-up or all-down mask, or everything ignored) leaves no difference to measure.
@@ -68,15 +53,8 @@ export function domainContrast(image: GrayImage | FloatImage, mask: BinaryMask):
     }
   }
   const means = [sums[0] / counts[0], sums[1] / counts[1]]
-  const mean0 = means[0]
-  const mean1 = means[1]
-  let squares = 0
-  for (let i = 0; i < n; i++) {
-    const v = data[i]
-    if ((ignore !== undefined && ignore[i]) || !Number.isFinite(v)) continue
-    const d = v - (phase[i] !== 0 ? mean1 : mean0)
-    squares += d * d
-  }
+  const phaseMeans = Float64Array.of(means[0], means[1])
+  const squares = allAnalysed ? squaredDeviationsOfAll(data, phase, n, phaseMeans) : squaredDeviations(data, phase, ignore, n, phaseMeans)
   const dof = counts[0] + counts[1] - 2
   return {
     contrast: Math.abs(means[1] - means[0]),
@@ -86,6 +64,91 @@ export function domainContrast(image: GrayImage | FloatImage, mask: BinaryMask):
     upPixels: counts[1],
     downPixels: counts[0],
   }
+}
+
+/** Per-phase sums and counts. */
+interface PhaseSums {
+  sum0: number
+  sum1: number
+  count0: number
+  count1: number
+}
+
+/** 1 for a nonzero byte (up), 0 for zero, without a branch. */
+function isUp(phase: number): number {
+  return (phase + 255) >> 8
+}
+
+/**
+ * Per-phase sums of the analysed, finite grey values in raster order (index 0 = down, 1 = up). Without an ignore map
+ * every pixel is analysed unless its value is not finite, so the sums are first taken without looking at each value:
+ * a NaN or infinity shows in a sum that is not finite (it never drops out of a sum), and only then are the values
+ * checked one by one. `allAnalysed`: every pixel was analysed (no ignore map, all values finite).
+ */
+function analysedPhaseSums(data: GrayImage['data'], phase: Uint8Array, ignore: Uint8Array | undefined, n: number): PhaseSums & { allAnalysed: boolean } {
+  if (ignore === undefined) {
+    const sums = phaseSumsOfAll(data, phase, n)
+    if (Number.isFinite(sums.sum0) && Number.isFinite(sums.sum1)) return { ...sums, allAnalysed: true }
+  }
+  return { ...phaseSums(data, phase, ignore, n), allAnalysed: false }
+}
+
+/** Per-phase sums of all grey values in raster order. */
+function phaseSumsOfAll(data: GrayImage['data'], phase: Uint8Array, n: number): PhaseSums {
+  let sum0 = 0
+  let sum1 = 0
+  let count1 = 0
+  for (let i = 0; i < n; i++) {
+    if (phase[i] !== 0) {
+      sum1 += data[i]
+      count1++
+    } else {
+      sum0 += data[i]
+    }
+  }
+  return { sum0, sum1, count0: n - count1, count1 }
+}
+
+/** Per-phase sums of the analysed, finite grey values in raster order. */
+function phaseSums(data: GrayImage['data'], phase: Uint8Array, ignore: Uint8Array | undefined, n: number): PhaseSums {
+  let sum0 = 0
+  let sum1 = 0
+  let count0 = 0
+  let count1 = 0
+  for (let i = 0; i < n; i++) {
+    const v = data[i]
+    if ((ignore !== undefined && ignore[i] !== 0) || !Number.isFinite(v)) continue
+    if (phase[i] !== 0) {
+      sum1 += v
+      count1++
+    } else {
+      sum0 += v
+      count0++
+    }
+  }
+  return { sum0, sum1, count0, count1 }
+}
+
+/** Σ(v − μ_phase)² over all grey values in raster order; `means` = [μ_down, μ_up]. */
+function squaredDeviationsOfAll(data: GrayImage['data'], phase: Uint8Array, n: number, means: Float64Array): number {
+  let squares = 0
+  for (let i = 0; i < n; i++) {
+    const d = data[i] - means[isUp(phase[i])]
+    squares += d * d
+  }
+  return squares
+}
+
+/** Σ(v − μ_phase)² over the analysed, finite grey values in raster order. */
+function squaredDeviations(data: GrayImage['data'], phase: Uint8Array, ignore: Uint8Array | undefined, n: number, means: Float64Array): number {
+  let squares = 0
+  for (let i = 0; i < n; i++) {
+    const v = data[i]
+    if ((ignore !== undefined && ignore[i] !== 0) || !Number.isFinite(v)) continue
+    const d = v - means[isUp(phase[i])]
+    squares += d * d
+  }
+  return squares
 }
 
 /** Contrast-to-noise ratio of a frame on its own Otsu split, with the contrast to break ties between noise-free frames. */

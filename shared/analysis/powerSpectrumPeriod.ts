@@ -22,7 +22,7 @@
  * units of the pixel width ax. Output: frequencies in cycles per px, power in (intensity·px)² (arbitrary scale),
  * period in px. Peak search covers 2/N ≤ q ≤ 0.5 cycles/px.
  */
-import { nextPowerOfTwo, realFft2dHalf } from './fft2d'
+import { nextPowerOfTwo, realFft2dHalfPower, type RealRowSource } from './fft2d'
 import type { BinaryMask, FloatImage, GrayImage } from './types'
 
 /** Shell-averaged power spectrum; `frequencies[k] = k·shellWidth`. */
@@ -84,19 +84,91 @@ function hann(n: number): Float64Array {
   return w
 }
 
-/**
- * Detrended, windowed copy of the image in a zero-padded power-of-two buffer. Returns null when nothing is
- * analysed or the detrended image is identically zero (constant image).
- */
-function preparePadded(
-  image: SpectrumInput,
-  options: PowerSpectrumOptions,
-  wp: number,
-  hp: number,
-): Float64Array | null {
+/** Background a + b·x + c·y fitted to the analysed pixels, and what the fit saw. */
+interface Background {
+  a: number
+  b: number
+  c: number
+  /** Analysed pixels. */
+  n: number
+  /** Every analysed value is 0 or 1 (a binary mask). */
+  binary: boolean
+}
+
+/** Least-squares background of the analysed pixels (b = c = 0 unless `detrend: 'plane'`); null when none is analysed. */
+function fitBackground(image: SpectrumInput, detrend: PowerSpectrumOptions['detrend']): Background | null {
   const { width, height, data } = image
   const ignore = 'ignore' in image ? image.ignore : undefined
-  // Least-squares plane a + b·x + c·y on analysed pixels (b = c = 0 for mean detrending).
+  if (detrend === 'plane') return fitPlane(data, width, height, ignore)
+  let n = 0
+  let sv = 0
+  let binary = true
+  if (data instanceof Uint8Array) {
+    const bytes = ignore === undefined ? { ...sumBytes(data, width * height), count: width * height } : sumAnalysedBytes(data, ignore, width * height)
+    sv = bytes.sum
+    n = bytes.count
+    binary = bytes.bits <= 1
+  } else {
+    for (let i = 0; i < width * height; i++) {
+      if (ignore !== undefined && ignore[i] !== 0) continue
+      const v = data[i]
+      n++
+      sv += v
+      if (v !== 0 && v !== 1) binary = false
+    }
+  }
+  return n === 0 ? null : { a: sv / n, b: 0, c: 0, n, binary }
+}
+
+/** Byte order of typed arrays on this platform: summing bytes a word at a time needs byte k at bits 8k..8k+7. */
+const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
+
+/**
+ * Sum and OR of all bytes (no ignore map). Sums are integers, so the order of addition does not matter: whole
+ * 32-bit words are taken four bytes at a time where the array allows it.
+ */
+function sumBytes(data: Uint8Array, n: number): { sum: number; bits: number } {
+  let sum = 0
+  let bits = 0
+  let i = 0
+  if (LITTLE_ENDIAN && data.byteOffset % 4 === 0) {
+    const words = new Uint32Array(data.buffer, data.byteOffset, n >> 2)
+    // Chunks of 4096 words keep the integer partial sums below 2^31 (4096·4·255).
+    for (let from = 0; from < words.length; from += 4096) {
+      let chunk = 0
+      for (let w = from; w < Math.min(from + 4096, words.length); w++) {
+        const word = words[w]
+        bits |= word
+        const pairs = (word & 0x00ff00ff) + ((word >>> 8) & 0x00ff00ff)
+        chunk += (pairs & 0xffff) + (pairs >>> 16)
+      }
+      sum += chunk
+    }
+    i = words.length * 4
+  }
+  for (; i < n; i++) {
+    sum += data[i]
+    bits |= data[i]
+  }
+  return { sum, bits: (bits | (bits >>> 8) | (bits >>> 16) | (bits >>> 24)) & 0xff }
+}
+
+/** Sum, count and OR of the analysed bytes (pixels with a nonzero ignore byte left out). */
+function sumAnalysedBytes(data: Uint8Array, ignore: Uint8Array, n: number): { sum: number; count: number; bits: number } {
+  let sum = 0
+  let count = 0
+  let bits = 0
+  for (let i = 0; i < n; i++) {
+    if (ignore[i] !== 0) continue
+    sum += data[i]
+    bits |= data[i]
+    count++
+  }
+  return { sum, count, bits }
+}
+
+/** Least-squares plane a + b·x + c·y (METHODS §3.1 option), with the mean as fallback for degenerate geometry. */
+function fitPlane(data: SpectrumInput['data'], width: number, height: number, ignore: Uint8Array | undefined): Background | null {
   let n = 0
   let sv = 0
   let sx = 0
@@ -106,6 +178,7 @@ function preparePadded(
   let sxy = 0
   let sxv = 0
   let syv = 0
+  let binary = true
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
       const i = y * width + x
@@ -120,13 +193,14 @@ function preparePadded(
       sxy += x * y
       sxv += x * v
       syv += y * v
+      if (v !== 0 && v !== 1) binary = false
     }
   }
   if (n === 0) return null
   let a = sv / n
   let b = 0
   let c = 0
-  if (options.detrend === 'plane' && n >= 3) {
+  if (n >= 3) {
     // Centred normal equations for (b, c); a follows from the means.
     const mx = sx / n
     const my = sy / n
@@ -142,29 +216,98 @@ function preparePadded(
       a = sv / n - b * mx - c * my
     }
   }
-  const useWindow = options.window !== false
+  return { a, b, c, n, binary }
+}
+
+/**
+ * Rows y < height of the detrended, windowed image (data − a − b·x − c·y)·w(x)·w(y), zero-padded to wp columns,
+ * ignored pixels 0 (the rows below, up to the power of two, are zero). Returns null when the windowed image is
+ * identically zero (constant image): Σv² ≤ 1e-20·(|a|+1)²·n, a relative test because rounding of a constant image's
+ * mean leaves residues ~1e-16 of the level.
+ */
+function windowedRows(
+  image: SpectrumInput,
+  fit: Background,
+  useWindow: boolean,
+  wp: number,
+): RealRowSource | null {
+  const { width, height, data } = image
+  const ignore = 'ignore' in image ? image.ignore : undefined
+  const { a, b, c } = fit
   const wx = useWindow ? hann(width) : new Float64Array(width).fill(1)
   const wy = useWindow ? hann(height) : new Float64Array(height).fill(1)
-  const out = spectrumScratch(wp * hp, 'padded')
-  // Padding and ignored pixels stay 0.
-  out.fill(0)
+  const value = (x: number, y: number): number => (data[y * width + x] - (a + c * y) - b * x) * wx[x] * wy[y]
+  const scale = Math.abs(a) + 1
+  if (!hasEnergy(value, fit, width, height, ignore, 1e-20 * scale * scale * fit.n)) return null
+  if (fit.binary && b === 0 && c === 0) {
+    // With b = c = 0 a pixel is (v − a)·w(x)·w(y), v = 0 or 1: two values per column, each then times w(y) — the
+    // products `value` forms (a zero may differ in sign, which no power value sees).
+    const columnValues = new Float64Array(2 * width)
+    for (let x = 0; x < width; x++) {
+      columnValues[x] = (0 - a) * wx[x]
+      columnValues[width + x] = (1 - a) * wx[x]
+    }
+    return (y, out, offset) => {
+      binaryRow(data, ignore, columnValues, y * width, width, wy[y], out, offset)
+      out.fill(0, offset + width, offset + wp)
+    }
+  }
+  return (y, out, offset) => {
+    for (let x = 0; x < width; x++) out[offset + x] = ignore !== undefined && ignore[y * width + x] !== 0 ? 0 : value(x, y)
+    out.fill(0, offset + width, offset + wp)
+  }
+}
+
+/** One windowed row of a 0/1 image from the per-column values (index value·width + x) times the row weight. */
+function binaryRow(
+  data: SpectrumInput['data'],
+  ignore: Uint8Array | undefined,
+  columnValues: Float64Array,
+  from: number,
+  width: number,
+  rowWeight: number,
+  out: Float64Array,
+  offset: number,
+): void {
+  if (ignore === undefined) {
+    for (let x = 0; x < width; x++) out[offset + x] = columnValues[data[from + x] * width + x] * rowWeight
+    return
+  }
+  for (let x = 0; x < width; x++) {
+    out[offset + x] = ignore[from + x] !== 0 ? 0 : columnValues[data[from + x] * width + x] * rowWeight
+  }
+}
+
+/**
+ * Whether Σv² over the analysed pixels, added in raster order, exceeds `threshold`. With finite data (a finite fit;
+ * 8/16-bit or float32 values cannot overflow a double here) a partial sum of non-negative terms never drops below any
+ * of its terms (rounding is monotonic), so one term above the threshold decides it: the centre pixel is tried first
+ * and the full sum is only needed for (nearly) constant images, or when a NaN or infinity may be among the terms.
+ */
+function hasEnergy(
+  value: (x: number, y: number) => number,
+  fit: Background,
+  width: number,
+  height: number,
+  ignore: Uint8Array | undefined,
+  threshold: number,
+): boolean {
+  const cx = width >> 1
+  const cy = height >> 1
+  const finite = Number.isFinite(fit.a) && Number.isFinite(fit.b) && Number.isFinite(fit.c)
+  if (finite && (ignore === undefined || ignore[cy * width + cx] === 0)) {
+    const v = value(cx, cy)
+    if (v * v > threshold) return true
+  }
   let energy = 0
   for (let y = 0; y < height; y++) {
-    const row = y * width
-    const outRow = y * wp
-    const base = a + c * y
     for (let x = 0; x < width; x++) {
-      const i = row + x
-      if (ignore !== undefined && ignore[i] !== 0) continue
-      const v = (data[i] - base - b * x) * wx[x] * wy[y]
-      out[outRow + x] = v
+      if (ignore !== undefined && ignore[y * width + x] !== 0) continue
+      const v = value(x, y)
       energy += v * v
     }
   }
-  // Relative test: rounding of a constant image's mean leaves residues ~1e-16 of the level.
-  const scale = Math.abs(a) + 1
-  if (!(energy > 1e-20 * scale * scale * n)) return null
-  return out
+  return energy > threshold
 }
 
 /** |F|² on the non-redundant half plane (columns l = 0..Wp/2) with its frequency geometry. */
@@ -189,70 +332,108 @@ function halfPowerSpectrum(image: SpectrumInput, options: PowerSpectrumOptions):
   const geometry: HalfPower = { power: new Float64Array(0), halfWidth: 0, wp, hp, aspect, shellWidth, firstUsedShell }
   // Degenerate input (empty, constant, all ignored): no spectrum rather than a spectrum of rounding noise.
   if (width * height === 0) return { geometry, ok: false }
-  const padded = preparePadded(image, options, wp, hp)
-  if (padded === null) return { geometry, ok: false }
-  const halfSize = (wp === 1 ? 1 : wp / 2 + 1) * hp
-  const half = realFft2dHalf(padded, wp, hp, { re: spectrumScratch(halfSize, 're'), im: spectrumScratch(halfSize, 'im') })
-  const power = spectrumScratch(half.re.length, 'power')
-  for (let i = 0; i < power.length; i++) power[i] = half.re[i] * half.re[i] + half.im[i] * half.im[i]
-  geometry.power = power
-  geometry.halfWidth = half.halfWidth
+  const fit = fitBackground(image, options.detrend)
+  const rows = fit === null ? null : windowedRows(image, fit, options.window !== false, wp)
+  if (rows === null) return { geometry, ok: false }
+  geometry.halfWidth = wp === 1 ? 1 : wp / 2 + 1
+  geometry.power = realFft2dHalfPower(rows, wp, hp, height, spectrumScratch(geometry.halfWidth * hp))
   return { geometry, ok: true }
 }
 
-/** Working arrays of the spectrum (padded image, half spectrum, power), kept for the largest size seen. */
-const scratchArrays = new Map<'padded' | 're' | 'im' | 'power', Float64Array>()
+/** The half-plane power array, kept for the largest size seen (its contents are whatever the last call left). */
+let powerScratch = new Float64Array(0)
 
-/** A view of `length` values of a kept array; its contents are whatever the last call left. */
-function spectrumScratch(length: number, name: 'padded' | 're' | 'im' | 'power'): Float64Array {
-  let array = scratchArrays.get(name)
-  if (array === undefined || array.length < length) {
-    array = new Float64Array(length)
-    scratchArrays.set(name, array)
-  }
-  return array.subarray(0, length)
+function spectrumScratch(length: number): Float64Array {
+  if (powerScratch.length < length) powerScratch = new Float64Array(length)
+  return powerScratch.subarray(0, length)
 }
 
-/** Shell index of every half-plane bin for the last geometry seen (it is the same for every frame of a stack). */
-let shellTable: { key: string; table: Int32Array } | null = null
+/** Per-bin tables of a frequency geometry; they depend on the sizes only, so a stack computes them once. */
+interface ShellTables {
+  key: string
+  /** round(|q|/Δq) per half-plane bin. */
+  shellOf: Int32Array
+  /** Frequency samples per shell over the full plane (a bin of columns 1..Wp/2−1 counts twice). */
+  counts: Uint32Array
+  /** Per row k: the columns with 2/N ≤ |q| ≤ 0.5 (the 2-D peak search band) are bandFrom[k]..bandTo[k] − 1. */
+  bandFrom: Int32Array
+  bandTo: Int32Array
+}
+
+let lastTables: ShellTables | null = null
+
+/** Number of shells up to the corner of the band, q = √(0.25 + (0.5/aspect)²). */
+function shellCount(g: HalfPower): number {
+  const qyMax = 0.5 / g.aspect
+  return Math.floor(Math.sqrt(0.25 + qyMax * qyMax) / g.shellWidth + 0.5) + 1
+}
+
+/** Weight of half-plane column l: 1 for l = 0 and l = Wp/2 (their own mirror), else 2. */
+function columnWeight(l: number, wp: number): number {
+  return l === 0 || 2 * l === wp ? 1 : 2
+}
 
 /**
- * round(|q|/Δq) per bin of the half plane: the squared radial coordinate in shell units is separable,
- * (l/(Wp·Δq))² + (k/(Hp·aspect·Δq))².
+ * Tables for a geometry, cached for the last one seen. The squared radial coordinate in shell units is separable,
+ * (l/(Wp·Δq))² + (k/(Hp·aspect·Δq))²; along a row |q| only grows with l, so the band is one run of columns.
  */
-function shellIndexTable(g: HalfPower): Int32Array {
-  const { halfWidth, wp, hp, aspect, shellWidth } = g
-  const key = `${halfWidth},${wp},${hp},${aspect},${shellWidth}`
-  if (shellTable !== null && shellTable.key === key) return shellTable.table
-  const table = new Int32Array(halfWidth * hp)
+function shellTables(g: HalfPower): ShellTables {
+  const { halfWidth, wp, hp, aspect, shellWidth, firstUsedShell } = g
+  const key = `${halfWidth},${wp},${hp},${aspect},${shellWidth},${firstUsedShell}`
+  if (lastTables !== null && lastTables.key === key) return lastTables
+  const shellOf = new Int32Array(halfWidth * hp)
+  const counts = new Uint32Array(shellCount(g))
+  const bandFrom = new Int32Array(hp)
+  const bandTo = new Int32Array(hp)
   const colTerm = new Float64Array(halfWidth)
   for (let l = 0; l < halfWidth; l++) colTerm[l] = (l / (wp * shellWidth)) ** 2
+  const qMin2 = (firstUsedShell * shellWidth) ** 2
   for (let k = 0; k < hp; k++) {
     const ks = k <= hp / 2 ? k : k - hp
     const rowTerm = (ks / (hp * aspect * shellWidth)) ** 2
     const row = k * halfWidth
-    for (let l = 0; l < halfWidth; l++) table[row + l] = Math.round(Math.sqrt(colTerm[l] + rowTerm))
+    for (let l = 0; l < halfWidth; l++) {
+      const shell = Math.round(Math.sqrt(colTerm[l] + rowTerm))
+      shellOf[row + l] = shell
+      counts[shell] += columnWeight(l, wp)
+    }
+    const qy = ks / (hp * aspect)
+    const inBand = (l: number): number => {
+      const qx = l / wp
+      const q2 = qx * qx + qy * qy
+      return q2 < qMin2 ? -1 : q2 > 0.25 ? 1 : 0
+    }
+    let from = 0
+    while (from < halfWidth && inBand(from) < 0) from++
+    let to = from
+    while (to < halfWidth && inBand(to) === 0) to++
+    bandFrom[k] = from
+    bandTo[k] = to
   }
-  shellTable = { key, table }
-  return table
+  lastTables = { key, shellOf, counts, bandFrom, bandTo }
+  return lastTables
 }
 
-/** Shell average of the half-plane power (columns 1..Wp/2−1 also stand for their Hermitian mirror). */
-function shellAverage(g: HalfPower): RadialSpectrum {
-  const { power, halfWidth, wp, hp, aspect, shellWidth, firstUsedShell } = g
-  const qyMax = 0.5 / aspect
-  const shells = Math.floor(Math.sqrt(0.25 + qyMax * qyMax) / shellWidth + 0.5) + 1
+/** Running state of the 2-D peak search: strongest bin of the band so far and the band's total power. */
+interface BandSearch {
+  best: number
+  bestK: number
+  bestL: number
+  total: number
+}
+
+/**
+ * Shell average of the half-plane power (columns 1..Wp/2−1 also stand for their Hermitian mirror). With `search`,
+ * the 2-D peak search of spotPeak runs in the same pass, row by row while the row is in cache.
+ */
+function shellAverage(g: HalfPower, search?: BandSearch): RadialSpectrum {
+  const { power, halfWidth, wp, hp, shellWidth, firstUsedShell } = g
+  const { shellOf, counts, bandFrom, bandTo } = shellTables(g)
+  const shells = counts.length
   const sum = new Float64Array(shells)
-  const counts = new Uint32Array(shells)
-  const shellOf = shellIndexTable(g)
   for (let k = 0; k < hp; k++) {
-    const row = k * halfWidth
-    for (let l = 0; l < halfWidth; l++) {
-      const shell = shellOf[row + l]
-      const weight = l === 0 || 2 * l === wp ? 1 : 2
-      sum[shell] += weight * power[row + l]
-      counts[shell] += weight
-    }
+    addRowToShells(power, shellOf, k * halfWidth, halfWidth, wp, sum)
+    if (search !== undefined) searchRow(power, k, halfWidth, wp, hp, bandFrom[k], bandTo[k], search)
   }
   const frequencies = new Float64Array(shells)
   const average = new Float64Array(shells)
@@ -260,7 +441,43 @@ function shellAverage(g: HalfPower): RadialSpectrum {
     frequencies[s] = s * shellWidth
     average[s] = counts[s] > 0 ? sum[s] / counts[s] : 0
   }
-  return { frequencies, power: average, counts, shellWidth, firstUsedShell }
+  return { frequencies, power: average, counts: counts.slice(), shellWidth, firstUsedShell }
+}
+
+/** Band columns from..to−1 of row k into the peak search (raster order: the first of equal maxima wins). */
+function searchRow(power: Float64Array, k: number, halfWidth: number, wp: number, hp: number, from: number, to: number, search: BandSearch): void {
+  const row = k * halfWidth
+  let { best, total } = search
+  for (let l = from; l < to; l++) {
+    const p = power[row + l]
+    total += l === 0 || 2 * l === wp ? p : 2 * p
+    if (p > best) {
+      best = p
+      search.bestK = k <= hp / 2 ? k : k - hp
+      search.bestL = l
+    }
+  }
+  search.best = best
+  search.total = total
+}
+
+/**
+ * sum[shell] += weight·P for the bins of one row, in column order. Neighbouring columns mostly share a shell, so the
+ * running sum of a shell stays in a local until the shell changes (the same additions in the same order).
+ */
+function addRowToShells(power: Float64Array, shellOf: Int32Array, row: number, halfWidth: number, wp: number, sum: Float64Array): void {
+  let shell = shellOf[row]
+  let acc = sum[shell]
+  for (let l = 0; l < halfWidth; l++) {
+    const s = shellOf[row + l]
+    if (s !== shell) {
+      sum[shell] = acc
+      shell = s
+      acc = sum[s]
+    }
+    acc += columnWeight(l, wp) * power[row + l]
+  }
+  sum[shell] = acc
 }
 
 /**
@@ -322,36 +539,17 @@ interface SpotPeak {
 }
 
 /**
- * 2-D peak in the band 2/N ≤ q ≤ 0.5, refined by separable parabolas through log-power along both frequency axes.
- * Negative columns are read through the Hermitian mirror P(k, −l) = P(−k, l).
+ * 2-D peak in the band 2/N ≤ q ≤ 0.5 (found by the search that ran with shellAverage), refined by separable
+ * parabolas through log-power along both frequency axes. Negative columns are read through the Hermitian mirror
+ * P(k, −l) = P(−k, l).
  */
-function spotPeak(g: HalfPower): SpotPeak | null {
-  const { power, halfWidth, wp, hp, aspect, shellWidth, firstUsedShell } = g
+function spotPeak(g: HalfPower, search: BandSearch): SpotPeak | null {
+  const { power, halfWidth, wp, hp, aspect } = g
+  const { best, bestK, bestL, total } = search
   const at = (k: number, l: number): number => {
     const kk = ((k % hp) + hp) % hp
     if (l >= 0) return power[kk * halfWidth + l]
     return power[((hp - kk) % hp) * halfWidth - l]
-  }
-  const qMin2 = (firstUsedShell * shellWidth) ** 2
-  let best = -1
-  let bestK = 0
-  let bestL = 0
-  let total = 0
-  for (let k = 0; k < hp; k++) {
-    const ks = k <= hp / 2 ? k : k - hp
-    const qy = ks / (hp * aspect)
-    for (let l = 0; l < halfWidth; l++) {
-      const qx = l / wp
-      const q2 = qx * qx + qy * qy
-      if (q2 < qMin2 || q2 > 0.25) continue
-      const p = power[k * halfWidth + l]
-      total += l === 0 || 2 * l === wp ? p : 2 * p
-      if (p > best) {
-        best = p
-        bestK = ks
-        bestL = l
-      }
-    }
   }
   if (!(best > 0) || !(total > 0)) return null
   let spot = 0
@@ -378,8 +576,10 @@ function spotPeak(g: HalfPower): SpotPeak | null {
  */
 export function domainPeriod(image: SpectrumInput, options: PowerSpectrumOptions = {}): DomainPeriodResult {
   const { geometry, ok } = halfPowerSpectrum(image, options)
+  const method = options.method ?? 'auto'
+  const search: BandSearch | undefined = method === 'radial' ? undefined : { best: -1, bestK: 0, bestL: 0, total: 0 }
   const spectrum: RadialSpectrum = ok
-    ? shellAverage(geometry)
+    ? shellAverage(geometry, search)
     : {
         frequencies: new Float64Array(0),
         power: new Float64Array(0),
@@ -389,9 +589,8 @@ export function domainPeriod(image: SpectrumInput, options: PowerSpectrumOptions
       }
   const none: DomainPeriodResult = { periodPx: null, peakFrequency: null, spectrum }
   if (!ok) return none
-  const method = options.method ?? 'auto'
   const radial = radialPeak(spectrum)
-  const spot = method === 'radial' ? null : spotPeak(geometry)
+  const spot = search === undefined ? null : spotPeak(geometry, search)
   let frequency: number | null = radial
   let used: 'radial' | 'peak2d' = 'radial'
   if (spot !== null && (method === 'peak2d' || spot.spotFraction >= SPOT_FRACTION_FOR_STRIPES)) {

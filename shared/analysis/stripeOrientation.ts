@@ -136,6 +136,8 @@ function tensorSums(smooth: Float32Array, width: number, height: number, aspect:
   const f = Math.fround
   const lastX = width - 1
   const lastY = height - 1
+  // gy / 1 is gy exactly: the division is skipped for square pixels.
+  const squarePixels = aspect === 1
   let sumRe = 0
   let sumIm = 0
   let trace = 0
@@ -153,7 +155,7 @@ function tensorSums(smooth: Float32Array, width: number, height: number, aspect:
         const gx = f((-smooth[i + 2] + 8 * smooth[i + 1] - 8 * smooth[i - 1] + smooth[i - 2]) / 12)
         const c = i - row
         const gy = f((-smooth[p2 + c] + 8 * smooth[p1 + c] - 8 * smooth[m1 + c] + smooth[m2 + c]) / 12)
-        const dy = gy / aspect
+        const dy = squarePixels ? gy : gy / aspect
         const jxx = f(gx * gx)
         const jyy = f(dy * dy)
         const jxy = f(gx * dy)
@@ -170,7 +172,7 @@ function tensorSums(smooth: Float32Array, width: number, height: number, aspect:
       const xp2 = smooth[row + (x < lastX - 1 ? x + 2 : lastX)]
       const gx = f((-xp2 + 8 * xp1 - 8 * xm1 + xm2) / 12)
       const gy = f((-smooth[p2 + x] + 8 * smooth[p1 + x] - 8 * smooth[m1 + x] + smooth[m2 + x]) / 12)
-      const dy = gy / aspect
+      const dy = squarePixels ? gy : gy / aspect
       const jxx = f(gx * gx)
       const jyy = f(dy * dy)
       const jxy = f(gx * dy)

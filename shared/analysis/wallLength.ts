@@ -84,27 +84,129 @@ export interface WallDensityResult {
 /** Count phase transitions between analysed neighbours in the four Crofton directions. */
 export function croftonCrossings(mask: BinaryMask): CroftonCrossings {
   const { width, height, data, ignore } = mask
+  if (ignore === undefined) {
+    const byWords = countWithWords(data, width, height)
+    if (byWords !== null) return byWords
+  }
+  const counts: CroftonCrossings = { n0: 0, n90: 0, n45: 0, n135: 0 }
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    if (ignore !== undefined) countRowWithIgnore(data, ignore, row, width, y + 1 < height, counts)
+    else if (y + 1 < height) countRowPair(data, row, width, counts)
+    else counts.n0 += countRowSteps(data, row, width)
+  }
+  return counts
+}
+
+/** 1 when two bytes differ, else 0, without a branch: (a XOR b) is 0..255 and only 0 stays 0 after + 255 >> 8. */
+function differ(a: number, b: number): number {
+  return ((a ^ b) + 255) >> 8
+}
+
+/** Horizontal transitions (x, y)–(x+1, y) along one row. */
+function countRowSteps(data: Uint8Array, row: number, width: number): number {
+  let n = 0
+  for (let i = row; i < row + width - 1; i++) n += differ(data[i], data[i + 1])
+  return n
+}
+
+/**
+ * Transitions from the pixels of row y (no ignore map) to their right neighbour (N0) and to the three neighbours
+ * in row y + 1: straight down (N90), down-right (N45), down-left (N135).
+ */
+function countRowPair(data: Uint8Array, row: number, width: number, counts: CroftonCrossings): void {
+  const next = row + width
+  let left = data[row]
+  let leftBelow = data[next]
+  let n90 = differ(left, leftBelow)
+  let n45 = 0
+  let n135 = 0
+  for (let x = 1; x < width; x++) {
+    const v = data[row + x]
+    const below = data[next + x]
+    n90 += differ(v, below)
+    // Pair (x−1, y)–(x, y+1) is N45 of the left pixel; (x, y)–(x−1, y+1) is N135 of this one.
+    n45 += differ(left, below)
+    n135 += differ(v, leftBelow)
+    left = v
+    leftBelow = below
+  }
+  counts.n0 += countRowSteps(data, row, width)
+  counts.n90 += n90
+  counts.n45 += n45
+  counts.n135 += n135
+}
+
+/** Byte order of typed arrays on this platform: word counting needs byte k of a word at bits 8k..8k+7. */
+const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
+
+/** Number of bytes set in a word whose bytes are each 0 or 1 (their sum lands in the top byte of w·0x01010101). */
+function bytesSet(word: number): number {
+  return Math.imul(word, 0x01010101) >>> 24
+}
+
+/**
+ * The four counts four pixels at a time, for a 0/1 mask whose rows are whole 32-bit words: XOR of a word with the
+ * word of its neighbours (shifted by one byte for the horizontal and diagonal neighbours) has a 1 byte per
+ * transition. Returns null when the rows are not word-aligned or a byte is not 0 or 1 (the caller then counts
+ * pixel by pixel).
+ */
+function countWithWords(data: Uint8Array, width: number, height: number): CroftonCrossings | null {
+  if (!LITTLE_ENDIAN || width % 4 !== 0 || data.byteOffset % 4 !== 0 || width * height === 0) return null
+  const words = new Uint32Array(data.buffer, data.byteOffset, (width * height) / 4)
+  const perRow = width / 4
+  const counts: CroftonCrossings = { n0: 0, n90: 0, n45: 0, n135: 0 }
+  let bits = 0
+  for (let y = 0; y < height; y++) bits |= countWordRow(words, y * perRow, perRow, y + 1 < height, counts)
+  return (bits & 0xfefefefe) === 0 ? counts : null
+}
+
+/** Counts of one row of words (and the row below when there is one); returns the OR of the row's words. */
+function countWordRow(words: Uint32Array, row: number, perRow: number, hasNext: boolean, counts: CroftonCrossings): number {
+  const next = row + perRow
   let n0 = 0
   let n90 = 0
   let n45 = 0
   let n135 = 0
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    const next = row + width
-    const hasNext = y + 1 < height
-    for (let x = 0; x < width; x++) {
-      const i = row + x
-      if (ignore !== undefined && ignore[i] !== 0) continue
-      const v = data[i]
-      if (x + 1 < width && (ignore === undefined || ignore[i + 1] === 0) && data[i + 1] !== v) n0++
-      if (!hasNext) continue
-      const j = next + x
-      if ((ignore === undefined || ignore[j] === 0) && data[j] !== v) n90++
-      if (x + 1 < width && (ignore === undefined || ignore[j + 1] === 0) && data[j + 1] !== v) n45++
-      if (x > 0 && (ignore === undefined || ignore[j - 1] === 0) && data[j - 1] !== v) n135++
-    }
+  let bits = 0
+  let previousBelow = 0
+  for (let k = 0; k < perRow; k++) {
+    const last = k === perRow - 1
+    const a = words[row + k]
+    const aNext = last ? 0 : words[row + k + 1]
+    bits |= a
+    // The last pixel of a row has no right or down-right neighbour, the first no down-left one.
+    const rowEnd = last ? 0x00ffffff : -1
+    n0 += bytesSet((a ^ ((a >>> 8) | (aNext << 24))) & rowEnd)
+    if (!hasNext) continue
+    const b = words[next + k]
+    const bNext = last ? 0 : words[next + k + 1]
+    n90 += bytesSet(a ^ b)
+    n45 += bytesSet((a ^ ((b >>> 8) | (bNext << 24))) & rowEnd)
+    n135 += bytesSet((a ^ ((b << 8) | (previousBelow >>> 24))) & (k === 0 ? 0xffffff00 : -1))
+    previousBelow = b
   }
-  return { n0, n90, n45, n135 }
+  counts.n0 += n0
+  counts.n90 += n90
+  counts.n45 += n45
+  counts.n135 += n135
+  return bits
+}
+
+/** The same counts for one row when pixels may be ignored: a pair with an ignored pixel is skipped. */
+function countRowWithIgnore(data: Uint8Array, ignore: Uint8Array, row: number, width: number, hasNext: boolean, counts: CroftonCrossings): void {
+  const next = row + width
+  for (let x = 0; x < width; x++) {
+    const i = row + x
+    if (ignore[i] !== 0) continue
+    const v = data[i]
+    if (x + 1 < width && ignore[i + 1] === 0 && data[i + 1] !== v) counts.n0++
+    if (!hasNext) continue
+    const j = next + x
+    if (ignore[j] === 0 && data[j] !== v) counts.n90++
+    if (x + 1 < width && ignore[j + 1] === 0 && data[j + 1] !== v) counts.n45++
+    if (x > 0 && ignore[j - 1] === 0 && data[j - 1] !== v) counts.n135++
+  }
 }
 
 /**

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { fft2d, ifft2d, isPowerOfTwo, nextPowerOfTwo, realFft2dHalf } from '@shared/analysis/fft2d'
+import { fft2d, ifft2d, isPowerOfTwo, nextPowerOfTwo, realFft2dHalf, realFft2dHalfPower } from '@shared/analysis/fft2d'
 import { createRandom } from '@shared/analysis/seededRandom'
 
 /** Independent reference: the 2-D DFT summed term by term, F(k,l) = Σ f(y,x)·exp(−2πi(ky/H + lx/W)). */
@@ -114,6 +114,58 @@ describe('realFft2dHalf', () => {
         expect(Math.abs(half.im[k * half.halfWidth + l] - full.im[k * width + l])).toBeLessThan(1e-12)
       }
     }
+  })
+})
+
+describe('realFft2dHalf and realFft2dHalfPower (same fft.js butterflies as fft2d)', () => {
+  it.each([
+    [2, 2],
+    [4, 8],
+    [8, 4],
+    [32, 16],
+    [16, 64],
+    [512, 2],
+    [1, 1],
+  ])('When a real %i×%i image is transformed, then the half plane is bit for bit fft2d and the power its square', (width, height) => {
+    // Exact result: both run fft.js's radix-4 schedule (its twiddle table, its order of operations) on every row and
+    // then every column, so the numbers are the same, not just close. Fixed seed 19.
+    const random = createRandom(19)
+    const re = Float64Array.from({ length: width * height }, () => random() - 0.5)
+    const full = fft2d(re, width, height)
+    const half = realFft2dHalf(re, width, height)
+    const power = realFft2dHalfPower((y, out, offset) => out.set(re.subarray(y * width, (y + 1) * width), offset), width, height)
+    for (let k = 0; k < height; k++) {
+      for (let l = 0; l < half.halfWidth; l++) {
+        const i = k * half.halfWidth + l
+        expect(half.re[i]).toBe(full.re[k * width + l])
+        expect(half.im[i]).toBe(full.im[k * width + l])
+        expect(power[i]).toBe(half.re[i] * half.re[i] + half.im[i] * half.im[i])
+      }
+    }
+  })
+})
+
+describe('realFft2dHalfPower with zero padding rows', () => {
+  it.each([
+    [16, 32, 5],
+    [8, 16, 8],
+    [4, 2, 1],
+  ])('When only the first rows of a %i×%i image hold data (%i), then the power is that of the zero-padded image', (width, height, rowsWithData) => {
+    // Exact result: a row of zeros transforms to zeros, so leaving those rows out changes no power value. Seed 29.
+    const random = createRandom(29)
+    const re = new Float64Array(width * height)
+    for (let i = 0; i < width * rowsWithData; i++) re[i] = random() - 0.5
+    const half = realFft2dHalf(re, width, height)
+    const power = realFft2dHalfPower(
+      (y, out, offset) => {
+        expect(y).toBeLessThan(rowsWithData)
+        out.set(re.subarray(y * width, (y + 1) * width), offset)
+      },
+      width,
+      height,
+      rowsWithData,
+    )
+    for (let i = 0; i < power.length; i++) expect(power[i]).toBe(half.re[i] * half.re[i] + half.im[i] * half.im[i])
   })
 })
 

@@ -7,6 +7,7 @@ import {
   chainCodeCounts,
   crackLength,
   croftonBiasFactor,
+  croftonCrossings,
   wallDensity,
   wallLengthCrofton,
 } from '@shared/analysis/wallLength'
@@ -278,5 +279,36 @@ describe('chainCodeCounts', () => {
     data[0] = 1
     for (let y = 3; y < 7; y++) for (let x = 10; x < 15; x++) data[y * width + x] = 1
     expect(chainCodeCounts({ width, height: 10, data }).areaPx).toBe(20)
+  })
+})
+
+describe('croftonCrossings', () => {
+  /** The definition counted pair by pair: neighbours (x+1, y), (x, y+1), (x+1, y+1), (x−1, y+1) with another value. */
+  function countByDefinition(width: number, height: number, data: Uint8Array) {
+    const counts = { n0: 0, n90: 0, n45: 0, n135: 0 }
+    const at = (x: number, y: number) => data[y * width + x]
+    for (let y = 0; y < height; y++) {
+      for (let x = 0; x < width; x++) {
+        if (x + 1 < width && at(x + 1, y) !== at(x, y)) counts.n0++
+        if (y + 1 < height && at(x, y + 1) !== at(x, y)) counts.n90++
+        if (x + 1 < width && y + 1 < height && at(x + 1, y + 1) !== at(x, y)) counts.n45++
+        if (x > 0 && y + 1 < height && at(x - 1, y + 1) !== at(x, y)) counts.n135++
+      }
+    }
+    return counts
+  }
+
+  it('When random masks of any width and buffer offset are counted, then every count matches the definition', () => {
+    const random = createRandom(23) // fixed seed
+    for (const [width, height] of [[1, 1], [4, 1], [1, 4], [3, 5], [4, 4], [8, 3], [9, 6], [12, 7], [64, 9]]) {
+      for (const offset of [0, 1, 4]) {
+        // 0/1 masks (counted a word at a time where the rows allow it) and a mask with a stray value 2.
+        for (const values of [2, 3]) {
+          const data = new Uint8Array(offset + width * height).subarray(offset)
+          for (let i = 0; i < data.length; i++) data[i] = Math.floor(random() * values)
+          expect(croftonCrossings({ width, height, data })).toEqual(countByDefinition(width, height, data))
+        }
+      }
+    }
   })
 })
