@@ -21,7 +21,7 @@ import { join } from 'node:path'
 import { fileURLToPath, pathToFileURL } from 'node:url'
 import { analyzeFrame, intensityRange, histogramOnRange, measureMask, preprocessFrame, thresholdFromHistogram } from '../shared/analysis/analyzeFrame'
 import { labelBothPhases } from '../shared/analysis/connectedComponents'
-import { featureTransform } from '../shared/analysis/distanceTransform'
+import { featureTransformBothPhases } from '../shared/analysis/distanceTransform'
 import { domainContrast } from '../shared/analysis/domainContrast'
 import { domainSizeStats } from '../shared/analysis/domainSizes'
 import { localDomainWidths } from '../shared/analysis/localWidth'
@@ -117,10 +117,7 @@ function stepMedians(image: GrayImage, runs: number): Record<string, number> {
     ['area fractions', () => areaFractions(mask)],
     ['labelling both phases', () => labelBothPhases(mask)],
     ['domain sizes (ECD)', () => domainSizeStats(phases.up)],
-    ['distance + feature transform (both phases)', () => {
-      featureTransform(mask.data, mask.width, mask.height, 1)
-      return featureTransform(mask.data, mask.width, mask.height, 0)
-    }],
+    ['distance + feature transform (both phases)', () => featureTransformBothPhases(mask.data, mask.width, mask.height)],
     ['local widths (incl. distance transform)', () => localDomainWidths(mask)],
     ['FFT period', () => domainPeriod({ width: mask.width, height: mask.height, data: Float32Array.from(mask.data) })],
     ['orientation (structure tensor)', () => stripeOrientation(mask)],
