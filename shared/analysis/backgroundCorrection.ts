@@ -84,58 +84,192 @@ function interpolationTable(positions: Int32Array, n: number): { index: Int32Arr
 }
 
 /**
- * gaussianBlur(image, σ) read only at the pixels (xs[i], ys[j]), without computing the others: the row pass at the
- * sampled columns of every row, then the column pass at the sampled rows. Same kernel, tap order, edge replication
- * and float32 rounding as gaussianBlur, so the values are identical to sampling the full-resolution blur.
+ * Sample grid, interpolation tables and work buffers of the decimated low-pass for one frame size, kept for the last
+ * size seen (stacks repeat one size); none of them ever leaves this module.
  */
-function sampledGaussian(image: Frame, sigma: number, xs: Int32Array, ys: Int32Array): Float32Array {
-  const { width, height, data } = image
-  const kernel = gaussianKernel(sigma)
-  const radius = (kernel.length - 1) >> 1
-  const nx = xs.length
-  const ny = ys.length
-  // The float32 value of each input sample, as gaussianBlur converts integer frames.
-  const f = Math.fround
-  const rows = new Float32Array(height * nx)
-  const taps = kernel.length
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    for (let i = 0; i < nx; i++) {
-      const x = xs[i]
-      let acc = 0
-      if (x >= radius && x + radius < width) {
-        // Interior sample: no tap needs the edge clamp (same taps, same order).
-        const first = row + x - radius
-        for (let k = 0; k < taps; k++) acc += f(data[first + k]) * kernel[k]
-      } else {
-        for (let k = -radius; k <= radius; k++) {
-          let xx = x + k
-          if (xx < 0) xx = 0
-          else if (xx >= width) xx = width - 1
-          acc += f(data[row + xx]) * kernel[k + radius]
-        }
-      }
-      rows[y * nx + i] = acc
-    }
-  }
-  const out = new Float32Array(nx * ny)
-  for (let j = 0; j < ny; j++) {
-    const y = ys[j]
-    for (let i = 0; i < nx; i++) {
-      let acc = 0
-      for (let k = -radius; k <= radius; k++) {
-        let yy = y + k
-        if (yy < 0) yy = 0
-        else if (yy >= height) yy = height - 1
-        acc = f(acc + rows[yy * nx + i] * kernel[k + radius])
-      }
-      out[j * nx + i] = acc
-    }
-  }
-  return out
+interface DecimatedGrid {
+  width: number
+  height: number
+  xs: Int32Array
+  ys: Int32Array
+  /** 0 … nx−1 and 0 … ny−1: every position of the small grid. */
+  allColumns: Int32Array
+  allRows: Int32Array
+  col: { index: Int32Array; weight: Float32Array }
+  row: { index: Int32Array; weight: Float32Array }
+  /** Row passes (every input row at the sampled columns) of the anti-alias blur and of the small-grid blur. */
+  rowPass: Float32Array
+  smallRowPass: Float32Array
+  small: Float32Array
+  blurred: Float32Array
+  /** Each blurred grid row interpolated along x to every pixel column (double, as the bilinear sum uses it). */
+  columnInterpolated: Float64Array
 }
 
-/** The low-pass of flattenField, kept for the largest frame seen (it never leaves flattenField). */
+let gridCache: DecimatedGrid | null = null
+
+function decimatedGrid(width: number, height: number): DecimatedGrid {
+  if (gridCache && gridCache.width === width && gridCache.height === height) return gridCache
+  const xs = samplePositions(width)
+  const ys = samplePositions(height)
+  const nx = xs.length
+  const ny = ys.length
+  gridCache = {
+    width,
+    height,
+    xs,
+    ys,
+    allColumns: Int32Array.from({ length: nx }, (_, i) => i),
+    allRows: Int32Array.from({ length: ny }, (_, j) => j),
+    col: interpolationTable(xs, width),
+    row: interpolationTable(ys, height),
+    rowPass: new Float32Array(height * nx),
+    smallRowPass: new Float32Array(ny * nx),
+    small: new Float32Array(nx * ny),
+    blurred: new Float32Array(nx * ny),
+    columnInterpolated: new Float64Array(ny * width),
+  }
+  return gridCache
+}
+
+/** One image row as doubles, with edge-replicated margins for the row pass (grown as needed, never leaves the module). */
+let rowScratch = new Float64Array(0)
+
+function rowBuffer(length: number): Float64Array {
+  if (rowScratch.length < length) rowScratch = new Float64Array(length)
+  return rowScratch
+}
+
+/**
+ * Row pass of gaussianBlur at the columns xs of every row into `rowPass` (height × xs.length): taps in kernel order
+ * summed in double from +0, stored as float32. Each row is first copied into a double buffer with `radius` replicated
+ * edge samples on each side (exact for 8-bit, 16-bit and float32 samples), so the tap loop sees one array type
+ * whatever the frame's and needs no edge clamp. Four samples are summed side by side (independent sums).
+ */
+function rowPassAt(data: Frame['data'], width: number, height: number, kernel: Float64Array, xs: Int32Array, rowPass: Float32Array): void {
+  const radius = (kernel.length - 1) >> 1
+  const taps = kernel.length
+  const nx = xs.length
+  const padded = rowBuffer(width + 2 * radius)
+  const lastPadded = radius + width - 1
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    padded.set(data.subarray(row, row + width), radius)
+    const left = padded[radius]
+    const right = padded[lastPadded]
+    for (let k = 0; k < radius; k++) {
+      padded[k] = left
+      padded[lastPadded + 1 + k] = right
+    }
+    // Sample x reads input pixels x − radius … x + radius, i.e. padded[x … x + 2·radius].
+    const first = y * nx
+    let i = 0
+    for (; i + 4 <= nx; i += 4) {
+      const a = xs[i]
+      const b = xs[i + 1]
+      const c = xs[i + 2]
+      const d = xs[i + 3]
+      let acc0 = 0
+      let acc1 = 0
+      let acc2 = 0
+      let acc3 = 0
+      for (let k = 0; k < taps; k++) {
+        const weight = kernel[k]
+        acc0 += padded[a + k] * weight
+        acc1 += padded[b + k] * weight
+        acc2 += padded[c + k] * weight
+        acc3 += padded[d + k] * weight
+      }
+      rowPass[first + i] = acc0
+      rowPass[first + i + 1] = acc1
+      rowPass[first + i + 2] = acc2
+      rowPass[first + i + 3] = acc3
+    }
+    for (; i < nx; i++) {
+      const a = xs[i]
+      let acc = 0
+      for (let k = 0; k < taps; k++) acc += padded[a + k] * kernel[k]
+      rowPass[first + i] = acc
+    }
+  }
+}
+
+/**
+ * Column pass of gaussianBlur at the rows ys of the row-pass output (height × nx) into `out` (ys.length × nx): taps
+ * in kernel order from +0, edge rows repeated, rounded to float32 after every tap. Eight columns are summed side by
+ * side: the rounding chain of one sum is long, eight independent ones hide its latency.
+ */
+function columnPassAt(rowPass: Float32Array, height: number, nx: number, kernel: Float64Array, ys: Int32Array, out: Float32Array): void {
+  const radius = (kernel.length - 1) >> 1
+  const taps = kernel.length
+  const f = Math.fround
+  const tapRows = new Int32Array(taps)
+  for (let j = 0; j < ys.length; j++) {
+    for (let k = 0; k < taps; k++) {
+      const yy = ys[j] + k - radius
+      tapRows[k] = (yy < 0 ? 0 : yy >= height ? height - 1 : yy) * nx
+    }
+    const first = j * nx
+    let i = 0
+    for (; i + 8 <= nx; i += 8) {
+      let acc0 = 0
+      let acc1 = 0
+      let acc2 = 0
+      let acc3 = 0
+      let acc4 = 0
+      let acc5 = 0
+      let acc6 = 0
+      let acc7 = 0
+      for (let k = 0; k < taps; k++) {
+        const source = tapRows[k] + i
+        const weight = kernel[k]
+        acc0 = f(acc0 + rowPass[source] * weight)
+        acc1 = f(acc1 + rowPass[source + 1] * weight)
+        acc2 = f(acc2 + rowPass[source + 2] * weight)
+        acc3 = f(acc3 + rowPass[source + 3] * weight)
+        acc4 = f(acc4 + rowPass[source + 4] * weight)
+        acc5 = f(acc5 + rowPass[source + 5] * weight)
+        acc6 = f(acc6 + rowPass[source + 6] * weight)
+        acc7 = f(acc7 + rowPass[source + 7] * weight)
+      }
+      out[first + i] = acc0
+      out[first + i + 1] = acc1
+      out[first + i + 2] = acc2
+      out[first + i + 3] = acc3
+      out[first + i + 4] = acc4
+      out[first + i + 5] = acc5
+      out[first + i + 6] = acc6
+      out[first + i + 7] = acc7
+    }
+    for (; i < nx; i++) {
+      let acc = 0
+      for (let k = 0; k < taps; k++) acc = f(acc + rowPass[tapRows[k] + i] * kernel[k])
+      out[first + i] = acc
+    }
+  }
+}
+
+/**
+ * gaussianBlur of a width×height image with `kernel`, read only at the pixels (xs[i], ys[j]) into `out` (row-major
+ * ys.length × xs.length), without computing the others: the row pass at the sampled columns of every row, then the
+ * column pass at the sampled rows. Same taps, tap order, edge replication and rounding as gaussianBlur, so the values
+ * are identical to sampling its full-resolution result.
+ */
+function sampledGaussian(
+  data: Frame['data'],
+  width: number,
+  height: number,
+  kernel: Float64Array,
+  xs: Int32Array,
+  ys: Int32Array,
+  rowPass: Float32Array,
+  out: Float32Array,
+): void {
+  rowPassAt(data, width, height, kernel, xs, rowPass)
+  columnPassAt(rowPass, height, xs.length, kernel, ys, out)
+}
+
+/** The low-pass of flattenField at full resolution, kept for the largest frame seen (it never leaves flattenField). */
 let backgroundScratch = new Float32Array(0)
 
 function backgroundBuffer(n: number): Float32Array {
@@ -143,63 +277,104 @@ function backgroundBuffer(n: number): Float32Array {
   return backgroundScratch.subarray(0, n)
 }
 
-/**
- * Large-σ Gaussian low-pass computed on a grid decimated by DECIMATION: anti-alias blur (σ1), sampling, blur of the
- * small grid with √(σ² − σ1²)/DECIMATION, bilinear interpolation back. Equivalent to the full-resolution blur for a
- * background that is smooth on the DECIMATION scale, at about 1/6 of the cost for σ ≈ 20.
- */
-function decimatedGaussian(image: Frame, sigma: number): Float32Array {
-  const { width, height } = image
-  const xs = samplePositions(width)
-  const ys = samplePositions(height)
-  const nx = xs.length
-  const ny = ys.length
-  const small = sampledGaussian(image, PRE_BLUR_SIGMA, xs, ys)
-  const smallSigma = Math.sqrt(sigma * sigma - PRE_BLUR_SIGMA * PRE_BLUR_SIGMA) / DECIMATION
-  const blurred = gaussianBlur({ width: nx, height: ny, data: small }, smallSigma).data
-  const col = interpolationTable(xs, width)
-  const row = interpolationTable(ys, height)
-  const out = backgroundBuffer(width * height)
-  for (let y = 0; y < height; y++) {
-    const j = row.index[y]
-    const ty = row.weight[y]
-    const top = j * nx
-    const bottom = top + nx
+/** The input as a new Float32Array of its first n samples (exact for 8-bit, 16-bit and float32 data). */
+function floatCopy(data: Frame['data'], n: number): Float32Array {
+  return new Float32Array(data.length === n ? data : data.subarray(0, n))
+}
+
+/** Every row of the blurred grid (nx × ny) linearly interpolated along x to all `width` pixel columns, in double. */
+function interpolateAlongRows(blurred: Float32Array, nx: number, ny: number, col: DecimatedGrid['col'], width: number, across: Float64Array): void {
+  const colIndex = col.index
+  const colWeight = col.weight
+  for (let j = 0; j < ny; j++) {
+    const source = j * nx
+    const out = j * width
     for (let x = 0; x < width; x++) {
-      const i = col.index[x]
-      const tx = col.weight[x]
-      const upper = blurred[top + i] + tx * (blurred[top + i + 1] - blurred[top + i])
-      const lower = blurred[bottom + i] + tx * (blurred[bottom + i + 1] - blurred[bottom + i])
-      out[y * width + x] = upper + ty * (lower - upper)
+      const i = source + colIndex[x]
+      const tx = colWeight[x]
+      across[out + x] = blurred[i] + tx * (blurred[i + 1] - blurred[i])
     }
   }
-  return out
+}
+
+/**
+ * The full-resolution low-pass: the x-interpolated grid rows interpolated along y, as float32, into `out`; returns
+ * their sum in pixel order (double).
+ */
+function interpolateAlongColumns(across: Float64Array, row: DecimatedGrid['row'], width: number, height: number, out: Float32Array): number {
+  const f = Math.fround
+  let sum = 0
+  for (let y = 0; y < height; y++) {
+    const upper = row.index[y] * width
+    const lower = upper + width
+    const ty = row.weight[y]
+    const first = y * width
+    for (let x = 0; x < width; x++) {
+      const top = across[upper + x]
+      const background = f(top + ty * (across[lower + x] - top))
+      out[first + x] = background
+      sum += background
+    }
+  }
+  return sum
+}
+
+/** out ← input − out + mean, row by row (each input row read as doubles, exact). */
+function subtractFromInput(data: Frame['data'], width: number, height: number, mean: number, out: Float32Array): void {
+  const input = rowBuffer(width)
+  for (let y = 0; y < height; y++) {
+    const first = y * width
+    input.set(data.subarray(first, first + width))
+    for (let x = 0; x < width; x++) out[first + x] = input[x] - out[first + x] + mean
+  }
+}
+
+/**
+ * flattenField for σ ≥ MIN_DECIMATED_SIGMA: large-σ Gaussian low-pass computed on a grid decimated by DECIMATION
+ * (anti-alias blur (σ1) evaluated only at the samples, blur of the small grid with √(σ² − σ1²)/DECIMATION, bilinear
+ * interpolation back), equivalent to the full-resolution blur for a background that is smooth on the DECIMATION
+ * scale, at about 1/6 of the cost for σ ≈ 20. The low-pass is written straight into the new output, then replaced by
+ * input − low-pass + mean.
+ */
+function flattenDecimated(image: Frame, sigma: number): FloatImage {
+  const { width, height } = image
+  const grid = decimatedGrid(width, height)
+  const { xs, ys } = grid
+  const nx = xs.length
+  const ny = ys.length
+  const preBlur = Float64Array.from(gaussianKernel(PRE_BLUR_SIGMA))
+  sampledGaussian(image.data, width, height, preBlur, xs, ys, grid.rowPass, grid.small)
+  // gaussianBlur of the small grid is the same routine sampled at every grid position.
+  const smallSigma = Math.sqrt(sigma * sigma - PRE_BLUR_SIGMA * PRE_BLUR_SIGMA) / DECIMATION
+  const smallKernel = Float64Array.from(gaussianKernel(smallSigma))
+  sampledGaussian(grid.small, nx, ny, smallKernel, grid.allColumns, grid.allRows, grid.smallRowPass, grid.blurred)
+  interpolateAlongRows(grid.blurred, nx, ny, grid.col, width, grid.columnInterpolated)
+  const out = new Float32Array(width * height)
+  const sum = interpolateAlongColumns(grid.columnInterpolated, grid.row, width, height, out)
+  subtractFromInput(image.data, width, height, sum / (width * height), out)
+  return { width, height, data: out }
 }
 
 /**
  * Remove large-scale illumination: I − G_σ * I + ⟨G_σ * I⟩, which keeps the mean grey level exactly.
- * For σ ≥ 8 px on frames of at least 64×64 the low-pass is computed on a grid decimated by 4 (see decimatedGaussian).
+ * For σ ≥ 8 px on frames of at least 64×64 the low-pass is computed on a grid decimated by 4 (see flattenDecimated).
  * @param sigma Gaussian σ in pixels; choose several domain widths so domains are not flattened. σ ≤ 0 returns a copy.
  * @returns a new FloatImage; a constant image is returned unchanged (its low-pass equals itself).
  */
 export function flattenField(image: Frame, sigma: number): FloatImage {
   const { width, height } = image
   const n = width * height
-  const out = new Float32Array(n)
   // Nothing to level for σ ≤ 0 or an empty image: a float copy.
-  if (!(sigma > 0) || n === 0) {
-    for (let i = 0; i < n; i++) out[i] = image.data[i]
-    return { width, height, data: out }
+  if (!(sigma > 0) || n === 0) return { width, height, data: floatCopy(image.data, n) }
+  if (sigma >= MIN_DECIMATED_SIGMA && width >= MIN_DECIMATED_SIZE && height >= MIN_DECIMATED_SIZE) {
+    return flattenDecimated(image, sigma)
   }
-  const background =
-    sigma >= MIN_DECIMATED_SIGMA && width >= MIN_DECIMATED_SIZE && height >= MIN_DECIMATED_SIZE
-      ? decimatedGaussian(image, sigma)
-      : gaussianBlur(image, sigma, undefined, backgroundBuffer(n)).data
+  const background = gaussianBlur(image, sigma, undefined, backgroundBuffer(n)).data
   let sum = 0
   for (let i = 0; i < n; i++) sum += background[i]
   const mean = sum / n
-  const src = image.data
-  for (let i = 0; i < n; i++) out[i] = src[i] - background[i] + mean
+  const out = floatCopy(image.data, n)
+  for (let i = 0; i < n; i++) out[i] = out[i] - background[i] + mean
   return { width, height, data: out }
 }
 
