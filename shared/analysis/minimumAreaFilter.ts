@@ -9,7 +9,7 @@
  * A component is reassigned only if it shares an edge with the other phase (a component bounded only by the border
  * and ignored pixels has no surrounding phase; e.g. the whole image being one small component is kept).
  * Components touching the border are filtered like the others (a sub-resolution fragment is noise either way).
- * Components are labelled as runs on the mask packed 32 pixels to a word (connectedComponents.ts), so only the runs of
+ * Components are labelled as runs on the mask packed 32 pixels to a word (bitPackedMask.ts; labelRuns in connectedComponents.ts), so only the runs of
  * small components are visited to test their neighbours and flip them.
  * Checked against: METHODS.md check #10 (sizes {1, 4, 9, 30}, A_min 5 → {9, 30} kept, 5 px reassigned) [D].
  * Input: BinaryMask (1 = up); ignored pixels keep their value and are not counted. A_min in pixels (minArea ≤ 1
@@ -28,7 +28,7 @@ export interface MinimumAreaResult {
   reassignedFraction: number
 }
 
-/** Packed working rows (see connectedComponents.ts), kept for the largest image seen (never returned). */
+/** Packed working rows (see bitPackedMask.ts), kept for the largest image seen (never returned). */
 let maskBits = new Int32Array(0)
 let beforeBits = new Int32Array(0)
 let analysableBits = new Int32Array(0)
@@ -144,7 +144,7 @@ export function removeSmallDomains(mask: BinaryMask, minArea: number): MinimumAr
 }
 
 /**
- * removeSmallDomains in place on a mask packed as by packNonZero (connectedComponents.ts), for callers that keep the
+ * removeSmallDomains in place on a mask packed as by packNonZero (bitPackedMask.ts), for callers that keep the
  * mask packed between steps. Ignored pixels (`ignore` ≠ 0) keep their bit.
  * @returns the reassigned pixel count and fraction of analysed pixels.
  */

@@ -131,7 +131,7 @@ let packedRows = new Int32Array(0)
 
 /**
  * 3×3 erosions (true) and dilations (false), applied in the order given and in place, to a mask packed as by
- * packNonZero (connectedComponents.ts): [true, false] is an opening, [false, true] a closing. Edge replication as in
+ * packNonZero (bitPackedMask.ts): [true, false] is an opening, [false, true] a closing. Edge replication as in
  * erodeMask/dilateMask; the padding bits stay 0.
  */
 export function squareFilter3Packed(words: Int32Array, width: number, height: number, erodeSteps: readonly boolean[]): void {
