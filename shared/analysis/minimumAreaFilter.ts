@@ -9,8 +9,8 @@
  * A component is reassigned only if it shares an edge with the other phase (a component bounded only by the border
  * and ignored pixels has no surrounding phase; e.g. the whole image being one small component is kept).
  * Components touching the border are filtered like the others (a sub-resolution fragment is noise either way).
- * Components are labelled as runs on the mask packed 32 pixels to a word (bitPackedMask.ts; labelRuns in connectedComponents.ts), so only the runs of
- * small components are visited to test their neighbours and flip them.
+ * Components are labelled as runs (labelRuns, connectedComponents.ts) on the mask packed 32 pixels to a word
+ * (bitPackedMask.ts), so only the runs of small components are visited to test their neighbours and flip them.
  * Checked against: METHODS.md check #10 (sizes {1, 4, 9, 30}, A_min 5 → {9, 30} kept, 5 px reassigned) [D].
  * Input: BinaryMask (1 = up); ignored pixels keep their value and are not counted. A_min in pixels (minArea ≤ 1
  * changes nothing). Output: the filtered mask, reassigned pixel count and fraction of analysed pixels.
