@@ -10,6 +10,7 @@ import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/ty
 import type { MotionAnalysis, MotionOptions } from '../../shared/analysis/analyzeMotion'
 import type { MotionRow } from '../../shared/analysis/wallVelocity'
 import type { DecodeLimits, ImageHeader } from '../../shared/imageio/decodeImage'
+import type { BootstrapReference } from '../../shared/analysis/powerLawFit'
 
 /** Context of a mask measured on its own (see `measureMaskInPool`). */
 export interface MaskMeasureContext {
@@ -52,6 +53,7 @@ export type AnalysisTask =
   | { kind: 'measureMask'; mask: BinaryMask; context: MaskMeasureContext }
   | { kind: 'motion'; fileId: number; recipe: AnalysisRecipe; rows: MotionRow[]; options: MotionOptions }
   | { kind: 'render'; fileId: number; index: number }
+  | { kind: 'bootstrapCount'; sets: Float64Array[]; reference: BootstrapReference }
 
 /** What each task kind returns. */
 export interface AnalysisTaskResults {
@@ -64,6 +66,7 @@ export interface AnalysisTaskResults {
   measureMask: { measurements: FrameMeasurements; distributions?: FrameDistributions }
   motion: MotionAnalysis
   render: RenderedFrame
+  bootstrapCount: number
 }
 
 /** Pool → worker. Messages on one port arrive in order, so a task always finds the files shared before it. */

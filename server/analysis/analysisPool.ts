@@ -1,6 +1,7 @@
 /**
  * A pool of worker threads that runs the analysis engine off the main thread: the three stack passes of
- * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast), single-frame analysis,
+ * shared/analysis/analyzeStack.ts (pooled histogram → segment and measure → contrast) and the refits of the jump-size
+ * bootstrap, single-frame analysis,
  * measurements of a saved mask, whole motion series (shared/analysis/analyzeMotion.ts, one series per worker), and the
  * display derivatives of uploaded frames (frameRendering.ts).
  *
@@ -19,6 +20,7 @@ import { Worker } from 'node:worker_threads'
 import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask } from '../../shared/analysis/types'
+import type { BootstrapReference } from '../../shared/analysis/powerLawFit'
 import type { MotionAnalysis, MotionOptions } from '../../shared/analysis/analyzeMotion'
 import type { MotionRow } from '../../shared/analysis/wallVelocity'
 import type { DecodeLimits, ImageHeader } from '../../shared/imageio/decodeImage'
@@ -87,6 +89,8 @@ export interface AnalysisPool {
   analyzeMotion(file: SharedFile, recipe: AnalysisRecipe, rows: MotionRow[], options: MotionOptions): Promise<MotionAnalysis>
   /** Decode one frame and render its preview and thumbnail (frameRendering.ts); the buffers are transferred, not copied. */
   renderFrame(file: SharedFile, index: number): Promise<RenderedFrame>
+  /** shared/analysis/powerLawFit's countAtLeastAsFar, the sets spread over the threads (same count as on one). */
+  countAtLeastAsFar(sets: readonly Float64Array[], reference: BootstrapReference): Promise<number>
   /** Stop every worker; tasks still queued or running are rejected. */
   close(): Promise<void>
 }
@@ -271,6 +275,17 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
     },
     renderFrame(file, index) {
       return run<'render'>({ kind: 'render', fileId: file.id, index })
+    },
+    async countAtLeastAsFar(sets, reference) {
+      // Twice as many parts as threads, so a thread that finishes early takes another part.
+      const parts = Math.min(sets.length, 2 * size)
+      const counts = await Promise.all(
+        Array.from({ length: parts }, (_, k) => {
+          const part = sets.slice(Math.floor((k * sets.length) / parts), Math.floor(((k + 1) * sets.length) / parts))
+          return run<'bootstrapCount'>({ kind: 'bootstrapCount', sets: part, reference })
+        }),
+      )
+      return counts.reduce((sum, count) => sum + count, 0)
     },
     async close() {
       if (closed) return

@@ -15,6 +15,7 @@ import { parentPort } from 'node:worker_threads'
 import { analyzeFrame, measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { frameContrastPass, frameHistogramPass, frameMeasurePass, rawRange } from '../../shared/analysis/analyzeStack'
 import { analyzeMotion } from '../../shared/analysis/analyzeMotion'
+import { countAtLeastAsFar } from '../../shared/analysis/powerLawFit'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
 import { decodeFrame, probeImage, type DecodeLimits, type ImageInput } from '../../shared/imageio/decodeImage'
@@ -185,6 +186,8 @@ async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unk
     }
     case 'render':
       return renderedFrame(await decodeSharedFrame(fileFor(task.fileId), task.index), transfer)
+    case 'bootstrapCount':
+      return countAtLeastAsFar(task.sets, task.reference)
   }
 }
 

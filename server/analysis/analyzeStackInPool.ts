@@ -7,12 +7,15 @@
 import {
   contrastMaskFrame,
   pooledThreshold,
+  prepareLoopSummary,
   safeHistogramRange,
   summarizeCurie,
-  summarizeLoop,
+  type LoopSummary,
   type StackAnalysis,
   type StackMeta,
 } from '../../shared/analysis/analyzeStack'
+import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
+import type { BinaryMask } from '../../shared/analysis/types'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { DecodeLimits } from '../../shared/imageio/decodeImage'
 import type { AnalysisPool, FrameOutcome } from './analysisPool'
@@ -32,6 +35,17 @@ export class StackFramesError extends Error {
     this.fileName = fileName
     this.failures = failures
   }
+}
+
+/**
+ * summarizeLoop (shared/analysis/analyzeStack.ts) with the refits of the jump-size bootstrap spread over the pool's
+ * threads: the same summary, in a fraction of the time it takes on one thread.
+ */
+export async function summarizeLoopInPool(pool: AnalysisPool, measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): Promise<LoopSummary | null> {
+  const pending = prepareLoopSummary(measurements, masks, meta, minClusterArea)
+  if (pending === null) return null
+  const fit = pending.jumpSizeFit
+  return pending.complete(fit === null ? 0 : await pool.countAtLeastAsFar(fit.sets, fit.reference))
 }
 
 function values<T>(fileName: string, outcomes: FrameOutcome<T>[]): T[] {
@@ -81,7 +95,7 @@ export async function analyzeStackInPool(
     const results = values(fileName, await pool.measurePass(file, indices, recipe, { pixelSizeNm: meta.pixelSizeNm, threshold }))
     const measurements = results.map((r) => r.measurements)
     const masks = results.map((r) => r.mask)
-    const loop = summarizeLoop(measurements, masks, meta, recipe.minDomainArea)
+    const loop = await summarizeLoopInPool(pool, measurements, masks, meta, recipe.minDomainArea)
     const maskFrame = contrastMaskFrame(measurements, meta)
     const curie = maskFrame === null ? null : summarizeCurie(values(fileName, await pool.contrastPass(file, indices, recipe, masks[maskFrame])), maskFrame, meta)
     return { threshold: threshold ?? null, frames: measurements, masks, loop, curie }

@@ -12,13 +12,14 @@ import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { Op, type Sequelize } from 'sequelize'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
-import { contrastMaskFrame, pooledThreshold, safeHistogramRange, summarizeCurie, summarizeLoop, type StackMeta } from '../../shared/analysis/analyzeStack'
+import { contrastMaskFrame, pooledThreshold, safeHistogramRange, summarizeCurie, type StackMeta } from '../../shared/analysis/analyzeStack'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { BinaryMask } from '../../shared/analysis/types'
 import { decodeMask, encodeMask } from '../../shared/imageio/maskEncoding'
 import { Frame, Image, StackFrameResult, StackRun } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
 import type { AnalysisPool } from '../analysis/analysisPool'
+import { summarizeLoopInPool } from '../analysis/analyzeStackInPool'
 import type { UploadTempFolder } from '../http/uploadTempFolder'
 
 export interface ProcessorDeps {
@@ -146,7 +147,7 @@ async function runPasses(deps: ProcessorDeps, run: StackRun) {
         masks[f.index] = { width: image.width, height: image.height, data: new Uint8Array(image.width * image.height) }
       }
     }
-    const loop = summarizeLoop(measurements, masks, usable, recipe.minDomainArea)
+    const loop = await summarizeLoopInPool(pool, measurements, masks, usable, recipe.minDomainArea)
     const maskFrame = contrastMaskFrame(measurements, usable)
     let curie = null
     if (maskFrame !== null) {

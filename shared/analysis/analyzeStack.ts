@@ -13,7 +13,7 @@ import type { AnalysisRecipe } from './recipe'
 import { POOLED_HISTOGRAM_BINS, histogramOnRange, measureMask, preprocessFrame, segmentPreprocessed, thresholdFromHistogram, type FrameMeasurements } from './analyzeFrame'
 import { hysteresisLoop, type HysteresisLoopResult } from './hysteresisLoop'
 import { flippedClusters } from './jumpStatistics'
-import { fitPowerLaw, type PowerLawFit } from './powerLawFit'
+import { countAtLeastAsFar, preparePowerLawFit, type PendingPowerLawFit, type PowerLawFit } from './powerLawFit'
 import { fitCriticalLaw, type CriticalLawFit } from './curieFit'
 import { domainContrast, sharpestFrameIndex } from './domainContrast'
 
@@ -78,6 +78,9 @@ export function rawRange(image: GrayImage | FloatImage): { min: number; max: num
 /** Pooled-histogram bins: 4× the single-frame resolution, since the safe range can be up to 3× the data span. */
 export const STACK_HISTOGRAM_BINS = POOLED_HISTOGRAM_BINS * 4
 
+/** Bootstrap resamples of the jump-size power-law p-value (Clauset et al. 2009 §4.1; see powerLawFit.ts). */
+export const JUMP_BOOTSTRAP_RESAMPLES = 200
+
 /** Pass 1 for one frame: its preprocessed histogram on the stack's common range. */
 export function frameHistogramPass(image: GrayImage | FloatImage, recipe: AnalysisRecipe, range: { min: number; max: number }, context: { reference?: GrayImage | FloatImage; registrationAnchor?: GrayImage | FloatImage }): Uint32Array {
   return histogramOnRange(preprocessFrame(image, recipe, context), range.min, range.max, STACK_HISTOGRAM_BINS)
@@ -112,8 +115,19 @@ export function pooledThreshold(histograms: Uint32Array[], range: { min: number;
 
 const isNumber = (v: number | null | undefined): v is number => typeof v === 'number' && Number.isFinite(v)
 
-/** The loop and its jumps, when at least three frames carry a field. */
-export function summarizeLoop(measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): LoopSummary | null {
+/** A loop summary whose jump-size bootstrap is still to be counted (see {@link prepareLoopSummary}). */
+export interface PendingLoopSummary {
+  /** The jump-size power-law fit awaiting its bootstrap count, or null when there are too few jumps to fit. */
+  jumpSizeFit: PendingPowerLawFit | null
+  /** The summary, given countAtLeastAsFar of the fit's bootstrap sets (ignored without a fit). */
+  complete(atLeastAsFar: number): LoopSummary
+}
+
+/**
+ * {@link summarizeLoop} in two steps, for callers that count the jump-size bootstrap elsewhere (on several threads);
+ * `complete(countAtLeastAsFar(jumpSizeFit.sets, jumpSizeFit.reference))` is exactly summarizeLoop's result.
+ */
+export function prepareLoopSummary(measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): PendingLoopSummary | null {
   const indices = meta.frames.map((f, i) => (isNumber(f.field) ? i : -1)).filter((i) => i >= 0)
   if (indices.length < 3) return null
   const loop = hysteresisLoop(indices.map((i) => ({ field: meta.frames[i].field as number, magnetization: measurements[i].magnetization })))
@@ -125,8 +139,19 @@ export function summarizeLoop(measurements: FrameMeasurements[], masks: BinaryMa
     jumps.push({ fromFrame: from, toFrame: to, deltaM: Number((measurements[to].magnetization - measurements[from].magnetization).toPrecision(6)), clusterSizesPx: clusters.sizes, censoredClusters: clusters.censored })
   }
   const sizes = jumps.flatMap((j) => j.clusterSizesPx)
-  const jumpSizeFit = sizes.length >= 2 ? fitPowerLaw(sizes, { discrete: true, bootstrap: 200, seed: 1 }) : null
-  return { ...loop, fieldUnit: meta.fieldUnit, jumps, jumpSizeFit }
+  const jumpSizeFit = sizes.length >= 2 ? preparePowerLawFit(sizes, { discrete: true, bootstrap: JUMP_BOOTSTRAP_RESAMPLES, seed: 1 }) : null
+  return {
+    jumpSizeFit,
+    complete: (atLeastAsFar) => ({ ...loop, fieldUnit: meta.fieldUnit, jumps, jumpSizeFit: jumpSizeFit?.complete(atLeastAsFar) ?? null }),
+  }
+}
+
+/** The loop and its jumps, when at least three frames carry a field. */
+export function summarizeLoop(measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): LoopSummary | null {
+  const pending = prepareLoopSummary(measurements, masks, meta, minClusterArea)
+  if (pending === null) return null
+  const fit = pending.jumpSizeFit
+  return pending.complete(fit === null ? 0 : countAtLeastAsFar(fit.sets, fit.reference))
 }
 
 /** Index of the frame whose mask the contrast series uses: the largest own-mask contrast among temperature frames. */

@@ -319,31 +319,59 @@ function powerLawSampler(alpha: number, xMin: number, method: Method, random: ()
   }
 }
 
-function bootstrapPValue(
-  data: PreparedData,
-  fit: TailFit,
-  method: Method,
-  resamples: number,
-  seed: number,
-  fixedXMin: boolean,
-): number {
+/** What a bootstrap refit is compared with: the data's KS distance, and how the data were fitted. */
+export interface BootstrapReference {
+  ks: number
+  xMin: number
+  method: PowerLawFit['method']
+  /** x_min was given (each set is fitted at it) rather than chosen by the KS scan. */
+  fixedXMin: boolean
+}
+
+/**
+ * The synthetic sets of the semi-parametric bootstrap, drawn in order from one random stream (so the same seed gives
+ * the same sets, whoever refits them and in whatever order).
+ */
+function syntheticSets(data: PreparedData, fit: TailFit, method: Method, resamples: number, seed: number, fixedXMin: boolean): Float64Array[] {
   const random = createRandom(seed)
   const draw = powerLawSampler(fit.alpha, fit.xMin, method, random)
   const n = fixedXMin ? data.x.length - fit.start : data.x.length
   const nBelow = fixedXMin ? 0 : fit.start
   const tailProbability = (data.x.length - fit.start) / data.x.length
-  const synthetic = new Float64Array(n)
-  let atLeastAsFar = 0
+  const sets: Float64Array[] = []
   for (let r = 0; r < resamples; r++) {
+    const synthetic = new Float64Array(n)
     for (let i = 0; i < n; i++) {
       synthetic[i] = nBelow === 0 || random() < tailProbability ? draw() : data.x[random.int(nBelow)]
     }
-    const resampled = prepare(synthetic)
-    const refit = fixedXMin ? fitFixedXMin(resampled, fit.xMin, method) : scanXMin(resampled, method)
-    // A synthetic set without any finite fit is as far from a power law as it gets.
-    if (!refit || refit.ks >= fit.ks) atLeastAsFar++
+    sets.push(synthetic)
   }
-  return atLeastAsFar / resamples
+  return sets
+}
+
+/**
+ * How many bootstrap sets lie at least as far from their own best power law as the data (KS distance ≥ the data's):
+ * each set is fitted by the same procedure as the data. Sets are independent, so they can be counted in parts (e.g.
+ * on several threads) and the counts added.
+ */
+export function countAtLeastAsFar(sets: readonly Float64Array[], reference: BootstrapReference): number {
+  let atLeastAsFar = 0
+  for (const set of sets) {
+    const resampled = prepare(set)
+    const refit = reference.fixedXMin ? fitFixedXMin(resampled, reference.xMin, reference.method) : scanXMin(resampled, reference.method)
+    // A synthetic set without any finite fit is as far from a power law as it gets.
+    if (!refit || refit.ks >= reference.ks) atLeastAsFar++
+  }
+  return atLeastAsFar
+}
+
+/** A fit whose bootstrap p-value is still to be computed (see {@link preparePowerLawFit}). */
+export interface PendingPowerLawFit {
+  /** The synthetic sets to refit; empty when no p-value was asked for or no fit exists. */
+  sets: Float64Array[]
+  reference: BootstrapReference
+  /** The complete fit, given {@link countAtLeastAsFar} of all the sets (ignored when there are none). */
+  complete(atLeastAsFar: number): PowerLawFit
 }
 
 /**
@@ -354,6 +382,16 @@ function bootstrapPValue(
  * @example fitPowerLaw([1, 2, 4, 8], { xMin: 1, bootstrap: 0 }).alpha // 1.961797
  */
 export function fitPowerLaw(values: ArrayLike<number>, options: PowerLawFitOptions = {}): PowerLawFit {
+  const pending = preparePowerLawFit(values, options)
+  return pending.complete(countAtLeastAsFar(pending.sets, pending.reference))
+}
+
+/**
+ * {@link fitPowerLaw} in two steps, for callers that refit the bootstrap sets elsewhere (on several threads): the fit
+ * and the synthetic sets now, the p-value once their count is known. `complete(countAtLeastAsFar(sets, reference))`
+ * is exactly fitPowerLaw's result.
+ */
+export function preparePowerLawFit(values: ArrayLike<number>, options: PowerLawFitOptions = {}): PendingPowerLawFit {
   const method: Method = options.discrete
     ? options.discreteMethod === 'approximate'
       ? 'discrete-approximate'
@@ -369,7 +407,7 @@ export function fitPowerLaw(values: ArrayLike<number>, options: PowerLawFitOptio
     requestedXMin === undefined ? scanXMin(data, method) : requestedXMin > 0 ? fitFixedXMin(data, requestedXMin, method) : null
 
   if (!fit) {
-    return {
+    const noFit: PowerLawFit = {
       alpha: null,
       alphaStdErr: null,
       xMin: requestedXMin !== undefined && requestedXMin > 0 ? requestedXMin : null,
@@ -381,26 +419,30 @@ export function fitPowerLaw(values: ArrayLike<number>, options: PowerLawFitOptio
       method,
       warning: 'No power-law fit: fewer than two distinct positive values at or above x_min.',
     }
+    return { sets: [], reference: { ks: Infinity, xMin: 0, method, fixedXMin }, complete: () => noFit }
   }
 
   const nTail = data.x.length - fit.start
   const alphaStdErr =
     method === 'discrete-exact' ? exactDiscreteStdErr(fit.alpha, fit.xMin, nTail) : (fit.alpha - 1) / Math.sqrt(nTail)
-  const pValue = resamples > 0 ? bootstrapPValue(data, fit, method, resamples, options.seed ?? 1, fixedXMin) : null
-
-  const warnings: string[] = []
-  if (nTail < 50) warnings.push(`Only ${nTail} values in the tail (< 50): α̂ is unreliable.`)
-  if (pValue !== null && pValue <= 0.1) warnings.push(`Bootstrap p = ${pValue.toFixed(3)} ≤ 0.1: a power law is ruled out.`)
-  return {
-    alpha: fit.alpha,
-    alphaStdErr,
-    xMin: fit.xMin,
-    nTail,
-    n: data.x.length,
-    ks: fit.ks,
-    pValue,
-    bootstrap: pValue === null ? 0 : resamples,
-    method,
-    ...(warnings.length ? { warning: warnings.join(' ') } : {}),
+  const sets = resamples > 0 ? syntheticSets(data, fit, method, resamples, options.seed ?? 1, fixedXMin) : []
+  const complete = (atLeastAsFar: number): PowerLawFit => {
+    const pValue = resamples > 0 ? atLeastAsFar / resamples : null
+    const warnings: string[] = []
+    if (nTail < 50) warnings.push(`Only ${nTail} values in the tail (< 50): α̂ is unreliable.`)
+    if (pValue !== null && pValue <= 0.1) warnings.push(`Bootstrap p = ${pValue.toFixed(3)} ≤ 0.1: a power law is ruled out.`)
+    return {
+      alpha: fit.alpha,
+      alphaStdErr,
+      xMin: fit.xMin,
+      nTail,
+      n: data.x.length,
+      ks: fit.ks,
+      pValue,
+      bootstrap: pValue === null ? 0 : resamples,
+      method,
+      ...(warnings.length ? { warning: warnings.join(' ') } : {}),
+    }
   }
+  return { sets, reference: { ks: fit.ks, xMin: fit.xMin, method, fixedXMin }, complete }
 }
