@@ -6,6 +6,9 @@
  */
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { spawn, type ChildProcess } from 'node:child_process'
+import { mkdtempSync, rmSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import path from 'node:path'
 import { createLabWithRoles, signIn, startTestApp } from './testApp'
 import { encodeTiff } from '../../shared/imageio/encodeTiff'
 import { renderFieldSweep, renderTemperatureRamp } from '../../scripts/sampleImages'
@@ -15,6 +18,8 @@ import { StackFrameResult, StackRun } from '../../server/models'
 
 const HC_MT = 7.3
 const STEP_MT = 2
+/** The workers' scratch folder (the run's original is streamed there): the killed worker's copy is removed with it. */
+const scratchFolder = mkdtempSync(path.join(tmpdir(), 'remanence-stack-runs-'))
 
 function startWorker(): ChildProcess {
   // node --import tsx (not the tsx CLI, which runs the script in a child process): SIGKILL must hit the worker itself.
@@ -27,6 +32,7 @@ function startWorker(): ChildProcess {
       SMTP_URL: inject('smtpUrl'),
       STALE_RUN_SECONDS: '3',
       WORKER_THREADS: '2',
+      UPLOAD_TMP_DIR: scratchFolder,
     },
     stdio: ['ignore', 'pipe', 'pipe'],
   })
@@ -60,6 +66,7 @@ describe('stack runs', () => {
   afterAll(async () => {
     for (const w of workers) if (w.exitCode === null) w.kill('SIGKILL')
     await ctx.stop()
+    rmSync(scratchFolder, { recursive: true, force: true })
   })
 
   async function uploadStack(name: string, frames: Parameters<typeof encodeTiff>[0], csv: string) {
