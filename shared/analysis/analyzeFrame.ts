@@ -16,7 +16,7 @@ import { binUpperEdge, otsuFromHistogram } from './otsuThreshold'
 import { kmeansSegment } from './kmeansSegmentation'
 import { closeMask, fillHoles, openMask, squareFilter3Packed } from './morphology'
 import { removeSmallDomains, removeSmallDomainsPacked } from './minimumAreaFilter'
-import { packNonZero, unpackBits, wordsPerRow } from './bitPackedMask'
+import { packAbove, packNonZero, unpackBits, wordsPerRow } from './bitPackedMask'
 import { labelBothPhases } from './connectedComponents'
 import { domainSizeStats } from './domainSizes'
 import { localDomainWidths } from './localWidth'
@@ -212,21 +212,6 @@ function segmentBuffer(width: number, height: number): Int32Array {
   const count = wordsPerRow(width) * height
   if (segmentWords.length < count) segmentWords = new Int32Array(count)
   return segmentWords
-}
-
-/** Pack the pixels above `threshold` (up = I > threshold) into rows of words as packNonZero does. */
-function packAbove(data: Float32Array, width: number, height: number, threshold: number, out: Int32Array): void {
-  const stride = wordsPerRow(width)
-  for (let y = 0; y < height; y++) {
-    const row = y * width
-    for (let j = 0; j < stride; j++) {
-      const x0 = j << 5
-      const count = Math.min(32, width - x0)
-      let word = 0
-      for (let b = 0; b < count; b++) word |= (data[row + x0 + b] > threshold ? 1 : 0) << b
-      out[y * stride + j] = word
-    }
-  }
 }
 
 /**

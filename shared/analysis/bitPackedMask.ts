@@ -111,3 +111,18 @@ export function unpackBits(words: Int32Array, width: number, height: number, out
     }
   }
 }
+
+/** Pack the pixels above `threshold` (up = I > threshold) into rows of words as packNonZero does. */
+export function packAbove(data: Float32Array, width: number, height: number, threshold: number, out: Int32Array): void {
+  const stride = wordsPerRow(width)
+  for (let y = 0; y < height; y++) {
+    const row = y * width
+    for (let j = 0; j < stride; j++) {
+      const x0 = j << 5
+      const count = Math.min(32, width - x0)
+      let word = 0
+      for (let b = 0; b < count; b++) word |= (data[row + x0 + b] > threshold ? 1 : 0) << b
+      out[y * stride + j] = word
+    }
+  }
+}
