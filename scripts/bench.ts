@@ -20,7 +20,7 @@ import { availableParallelism, cpus, tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { fileURLToPath, pathToFileURL } from 'node:url'
 import { analyzeFrame, intensityRange, histogramOnRange, measureMask, preprocessFrame, thresholdFromHistogram } from '../shared/analysis/analyzeFrame'
-import { labelBothPhases } from '../shared/analysis/connectedComponents'
+import { componentStatsBothPhases } from '../shared/analysis/connectedComponents'
 import { featureTransformBothPhases } from '../shared/analysis/distanceTransform'
 import { domainContrast } from '../shared/analysis/domainContrast'
 import { domainSizeStats } from '../shared/analysis/domainSizes'
@@ -103,7 +103,7 @@ function stepMedians(image: GrayImage, runs: number): Record<string, number> {
   const opened = openMask(raw)
   const closed = closeMask(opened)
   const mask = removeSmallDomains(closed, recipe.minDomainArea).mask
-  const phases = labelBothPhases(mask)
+  const phases = componentStatsBothPhases(mask)
   const steps: [string, () => unknown][] = [
     ['smoothing (float copy + Gaussian σ=1)', () => preprocessFrame(image, recipe)],
     ['otsu (range + histogram + threshold)', () => {
@@ -115,7 +115,7 @@ function stepMedians(image: GrayImage, runs: number): Record<string, number> {
     ['closing 3×3', () => closeMask(opened)],
     ['minimum-area filter', () => removeSmallDomains(closed, recipe.minDomainArea)],
     ['area fractions', () => areaFractions(mask)],
-    ['labelling both phases', () => labelBothPhases(mask)],
+    ['labelling both phases (sizes, no label image)', () => componentStatsBothPhases(mask)],
     ['domain sizes (ECD)', () => domainSizeStats(phases.up)],
     ['distance + feature transform (both phases)', () => featureTransformBothPhases(mask.data, mask.width, mask.height)],
     ['local widths (incl. distance transform)', () => localDomainWidths(mask)],

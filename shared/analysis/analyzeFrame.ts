@@ -17,7 +17,7 @@ import { kmeansSegment } from './kmeansSegmentation'
 import { closeMask, fillHoles, openMask, squareFilter3Packed } from './morphology'
 import { removeSmallDomains, removeSmallDomainsPacked } from './minimumAreaFilter'
 import { packAbove, packNonZero, unpackBits, wordsPerRow } from './bitPackedMask'
-import { labelBothPhases } from './connectedComponents'
+import { componentStatsBothPhases } from './connectedComponents'
 import { domainSizeStats } from './domainSizes'
 import { localDomainWidths } from './localWidth'
 import { domainPeriod } from './powerSpectrumPeriod'
@@ -227,7 +227,7 @@ function cleanPacked(words: Int32Array, width: number, height: number, ignore: U
   return recipe.minDomainArea > 1 ? removeSmallDomainsPacked(words, width, height, recipe.minDomainArea, ignore).reassignedFraction : 0
 }
 
-/** Label buffers of measureMask (only counts and sizes leave it), kept for the largest frame seen. */
+/** Label buffers of measureMask (needed only with an ignore map; counts and sizes leave it), kept for the largest frame seen. */
 let labelScratch = { upLabels: new Int32Array(0), downLabels: new Int32Array(0) }
 
 function labelBuffers(n: number): { upLabels: Int32Array; downLabels: Int32Array } {
@@ -245,7 +245,7 @@ export function measureMask(mask: BinaryMask, context: { pixelSizeNm: number | n
   const { width, height } = mask
   const nm = context.pixelSizeNm && context.pixelSizeNm > 0 ? context.pixelSizeNm : null
   const fractions = areaFractions(mask)
-  const phases = labelBothPhases(mask, labelBuffers(width * height))
+  const phases = componentStatsBothPhases(mask, mask.ignore ? labelBuffers(width * height) : {})
   const sizes = domainSizeStats(phases.up)
   const widths = localDomainWidths(mask)
   // The 0/1 values without the ignore map: the spectrum sees ignored pixels with their stored phase.

@@ -17,6 +17,16 @@ export function rowTailMask(width: number): number {
   return used >= 32 ? -1 : (1 << used) - 1
 }
 
+/**
+ * Number of set bits of a 32-bit word (SWAR population count; Anderson, "Bit Twiddling Hacks", section "Counting
+ * bits set, in parallel" [from memory]).
+ */
+export function bitCount(v: number): number {
+  v -= (v >>> 1) & 0x55555555
+  v = (v & 0x33333333) + ((v >>> 2) & 0x33333333)
+  return Math.imul((v + (v >>> 4)) & 0x0f0f0f0f, 0x01010101) >>> 24
+}
+
 /** Word order check: the four-pixels-per-word packing below reads bytes through 32-bit words (little-endian). */
 const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
 

@@ -24,10 +24,8 @@
 import { packEqual, wordsPerRow } from './bitPackedMask'
 import type { BinaryMask, Connectivity } from './types'
 
-/** Labelled components of one phase. Per-label arrays are indexed by label (index 0 unused). */
-export interface ComponentLabels {
-  /** Label per pixel: 0 = not in the labelled phase (or ignored), 1..count otherwise. */
-  labels: Int32Array
+/** Per-component statistics of one phase. Per-label arrays are indexed by label (index 0 unused). */
+export interface ComponentStats {
   count: number
   /** Pixel count per label. */
   sizes: Uint32Array
@@ -39,10 +37,16 @@ export interface ComponentLabels {
   bbox: Int32Array
 }
 
+/** Labelled components of one phase: the statistics plus the label image. */
+export interface ComponentLabels extends ComponentStats {
+  /** Label per pixel: 0 = not in the labelled phase (or ignored), 1..count otherwise. */
+  labels: Int32Array
+}
+
 /** Up and down components of a mask (up 8-connected, down 4-connected). */
-export interface PhaseComponents {
-  up: ComponentLabels
-  down: ComponentLabels
+export interface PhaseComponents<T extends ComponentStats = ComponentLabels> {
+  up: T
+  down: T
 }
 
 /** Root of `i` with path halving; the root is always the smallest run index of its tree. */
@@ -191,9 +195,17 @@ export function labelComponents(
     packEqual(ignore, width, height, 0, analysableBits)
     for (let i = 0; i < words; i++) phaseBits[i] &= analysableBits[i]
   }
-  const { runs, count, start: runStart, end: runEnd, row: runRow, label: runLabel } = labelRuns(phaseBits, width, height, connectivity)
+  const stats = runStatistics(labelRuns(phaseBits, width, height, connectivity), width, height, labels)
+  if (ignore !== undefined && stats.count > 0) flagIgnoreContacts(labels, ignore, width, height, reach, stats.touchesIgnore)
+  return { labels, ...stats }
+}
 
-  // Pass 2: paint runs and accumulate per-label statistics per run, not per pixel.
+/**
+ * Pass 2: per-label statistics accumulated per run, not per pixel, and the runs painted into `labels` when given.
+ * touchesIgnore is left 0 (flagIgnoreContacts sets it from the label image).
+ */
+function runStatistics(labelled: LabelledRuns, width: number, height: number, labels: Int32Array | null): ComponentStats {
+  const { runs, count, start: runStart, end: runEnd, row: runRow, label: runLabel } = labelled
   const sizes = new Uint32Array(count + 1)
   const touchesBorder = new Uint8Array(count + 1)
   const touchesIgnore = new Uint8Array(count + 1)
@@ -212,7 +224,7 @@ export function labelComponents(
     const e = runEnd[i]
     const y = runRow[i]
     // A plain loop: most runs are short, where a fill() call costs more than the stores.
-    for (let k = y * width + s, last = y * width + e; k <= last; k++) labels[k] = label
+    if (labels !== null) for (let k = y * width + s, last = y * width + e; k <= last; k++) labels[k] = label
     sizes[label] += e - s + 1
     if (s === 0 || e === lastX || y === 0 || y === lastY) touchesBorder[label] = 1
     const b = 4 * label
@@ -221,9 +233,35 @@ export function labelComponents(
     if (e > bbox[b + 2]) bbox[b + 2] = e
     if (y > bbox[b + 3]) bbox[b + 3] = y
   }
+  return { count, sizes, touchesBorder, touchesIgnore, bbox }
+}
 
-  if (ignore !== undefined && count > 0) flagIgnoreContacts(labels, ignore, width, height, reach, touchesIgnore)
-  return { labels, count, sizes, touchesBorder, touchesIgnore, bbox }
+/**
+ * labelComponents' statistics without its label image, for callers that need only counts, sizes and contacts: without
+ * an ignore map nothing is painted (a 1024² frame's two phases then cost a third less); with one, the label image is
+ * needed to find the ignore contacts, and `labelsOut` is used as in labelComponents.
+ */
+export function componentStats(
+  phase: Uint8Array,
+  width: number,
+  height: number,
+  connectivity: Connectivity,
+  value = 1,
+  options: { ignore?: Uint8Array; labelsOut?: Int32Array } = {},
+): ComponentStats {
+  if (options.ignore !== undefined) return labelComponents(phase, width, height, connectivity, value, options)
+  const words = wordsPerRow(width) * height
+  if (phaseBits.length < words) {
+    phaseBits = new Int32Array(words)
+    analysableBits = new Int32Array(words)
+  }
+  packEqual(phase, width, height, value, phaseBits)
+  return packedComponentStats(phaseBits, width, height, connectivity)
+}
+
+/** componentStats of the set bits of packed rows (as packEqual makes them; padding bits 0), no ignore map. */
+export function packedComponentStats(words: Int32Array, width: number, height: number, connectivity: Connectivity): ComponentStats {
+  return runStatistics(labelRuns(words, width, height, connectivity), width, height, null)
 }
 
 /** Mark labels adjacent (4-neighbours, plus diagonals when reach = 1) to an ignored pixel. */
@@ -265,5 +303,14 @@ export function labelBothPhases(mask: BinaryMask, buffers: { upLabels?: Int32Arr
   return {
     up: labelComponents(data, width, height, 8, 1, { ignore, labelsOut: buffers.upLabels }),
     down: labelComponents(data, width, height, 4, 0, { ignore, labelsOut: buffers.downLabels }),
+  }
+}
+
+/** labelBothPhases' statistics without the label images (see componentStats). */
+export function componentStatsBothPhases(mask: BinaryMask, buffers: { upLabels?: Int32Array; downLabels?: Int32Array } = {}): PhaseComponents<ComponentStats> {
+  const { data, width, height, ignore } = mask
+  return {
+    up: componentStats(data, width, height, 8, 1, { ignore, labelsOut: buffers.upLabels }),
+    down: componentStats(data, width, height, 4, 0, { ignore, labelsOut: buffers.downLabels }),
   }
 }

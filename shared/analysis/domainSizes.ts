@@ -7,11 +7,11 @@
  * seen by a randomly chosen pixel) [P]. Labelling: ./connectedComponents (up 8-connected by default, METHODS §1.4).
  * Checked against: METHODS.md check #14 (A = 100 px² → 11.2838 px); disks of known radius; the property
  * π(d/2)² = pixel count (tests).
- * Input: a BinaryMask (labelled here; `phase` selects up = 1 or down = 0) or a precomputed ComponentLabels.
+ * Input: a BinaryMask (labelled here; `phase` selects up = 1 or down = 0) or precomputed ComponentStats.
  * Output: diameters in px (square pixels; for pitches ax, ay multiply by √(ax·ay)), areas in px.
  */
-import { labelComponents } from './connectedComponents'
-import type { ComponentLabels } from './connectedComponents'
+import { componentStats } from './connectedComponents'
+import type { ComponentStats } from './connectedComponents'
 import type { BinaryMask, Connectivity } from './types'
 
 export interface DomainSizeOptions {
@@ -50,14 +50,14 @@ export function equivalentCircleDiameter(areaPx: number): number {
  * @returns count 0 and null means when the phase is absent or every domain is truncated.
  * @example domainSizeStats(diskMask).numberMeanPx // ≈ 2R for one interior disk of radius R
  */
-export function domainSizeStats(input: BinaryMask | ComponentLabels, options: DomainSizeOptions = {}): DomainSizeStats {
-  let components: ComponentLabels
-  if ('labels' in input) {
+export function domainSizeStats(input: BinaryMask | ComponentStats, options: DomainSizeOptions = {}): DomainSizeStats {
+  let components: ComponentStats
+  if ('sizes' in input) {
     components = input
   } else {
     const phase = options.phase ?? 1
     const connectivity = options.connectivity ?? (phase === 1 ? 8 : 4)
-    components = labelComponents(input.data, input.width, input.height, connectivity, phase, { ignore: input.ignore })
+    components = componentStats(input.data, input.width, input.height, connectivity, phase, { ignore: input.ignore })
   }
   // Degenerate input (no component, or all truncated) falls through with n = 0: means null, not NaN.
   const minArea = options.minAreaPx ?? 1

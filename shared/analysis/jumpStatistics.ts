@@ -13,8 +13,13 @@
  * Input: two BinaryMasks of equal size (1 = up), registered (§8.3); their ignore maps are combined.
  * Output: sizes in pixels (multiply by ax·ay for areas), ΔM as a fraction of Ms. One frame interval can merge several
  * avalanches (sizes biased up, counts down): keep field steps small [P].
+ * Frames without ignore maps (the usual case) are compared 32 pixels at a time on packed rows (./bitPackedMask) and
+ * the clusters sized from their runs (labelRuns), with the same result as the per-pixel route, which is kept for
+ * ignore maps: a 41-frame sweep's 40 comparisons then cost a few milliseconds each instead of tens (and no label
+ * images).
  */
-import { labelComponents } from './connectedComponents'
+import { bitCount, packNonZero, wordsPerRow } from './bitPackedMask'
+import { labelComponents, packedComponentStats } from './connectedComponents'
 import type { BinaryMask } from './types'
 
 /** ΔM between two consecutive frames. */
@@ -85,6 +90,7 @@ export function flippedClusters(
     }
   }
   const n = width * height
+  if (n > 0 && !before.ignore && !after.ignore && !persist?.ignore) return packedFlippedClusters(before, after, minArea, persist)
   const ignore = new Uint8Array(n)
   const flips = new Uint8Array(n)
   let analysed = 0
@@ -125,4 +131,54 @@ export function flippedClusters(
     censoredSizes,
     analysedPixels: analysed,
   }
+}
+
+/** flippedClusters for frames without ignore maps, on packed rows: every pixel is analysed, only the border censors. */
+function packedFlippedClusters(before: BinaryMask, after: BinaryMask, minArea: number, persist: BinaryMask | undefined): FlippedClusters {
+  const { width, height } = before
+  const words = wordsPerRow(width) * height
+  const packed = (mask: BinaryMask): Int32Array => {
+    const bits = new Int32Array(words)
+    packNonZero(mask.data, width, height, bits)
+    return bits
+  }
+  const wasUp = packed(before)
+  const isUp = packed(after)
+  const staysUp = persist ? packed(persist) : null
+  const lost = new Int32Array(words)
+  const gained = new Int32Array(words)
+  let netUp = 0
+  for (let i = 0; i < words; i++) {
+    const upToDown = wasUp[i] & ~isUp[i]
+    const downToUp = ~wasUp[i] & isUp[i]
+    netUp += bitCount(downToUp) - bitCount(upToDown)
+    // With a persistence frame, a flip counts in the size lists only if the pixel keeps its new value there.
+    lost[i] = staysUp === null ? upToDown : upToDown & ~staysUp[i]
+    gained[i] = staysUp === null ? downToUp : downToUp & staysUp[i]
+  }
+  const [upToDown, upToDownCensored] = clusterSizes(lost, width, height, minArea)
+  const [downToUp, downToUpCensored] = clusterSizes(gained, width, height, minArea)
+  const censoredSizes = [...upToDownCensored, ...downToUpCensored]
+  const analysedPixels = width * height
+  return {
+    upToDown,
+    downToUp,
+    sizes: [...upToDown, ...downToUp],
+    deltaM: (2 * netUp) / analysedPixels,
+    censored: censoredSizes.length,
+    censoredSizes,
+    analysedPixels,
+  }
+}
+
+/** Sizes of the 8-connected clusters of packed `bits` that reach `minArea`, in label order: [inside, on the border]. */
+function clusterSizes(bits: Int32Array, width: number, height: number, minArea: number): [number[], number[]] {
+  const { count, sizes, touchesBorder } = packedComponentStats(bits, width, height, 8)
+  const inside: number[] = []
+  const border: number[] = []
+  for (let l = 1; l <= count; l++) {
+    if (sizes[l] < minArea) continue
+    ;(touchesBorder[l] ? border : inside).push(sizes[l])
+  }
+  return [inside, border]
 }

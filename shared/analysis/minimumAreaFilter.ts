@@ -15,7 +15,7 @@
  * Input: BinaryMask (1 = up); ignored pixels keep their value and are not counted. A_min in pixels (minArea ≤ 1
  * changes nothing). Output: the filtered mask, reassigned pixel count and fraction of analysed pixels.
  */
-import { packEqual, packNonZero, rowTailMask, unpackBits, wordsPerRow } from './bitPackedMask'
+import { bitCount, packEqual, packNonZero, rowTailMask, unpackBits, wordsPerRow } from './bitPackedMask'
 import { labelRuns } from './connectedComponents'
 import type { BinaryMask, Connectivity } from './types'
 
@@ -55,13 +55,6 @@ function setRange(words: Int32Array, row: number, x0: number, x1: number, on: bo
     const bits = from & to
     words[row + j] = on ? words[row + j] | bits : words[row + j] & ~bits
   }
-}
-
-/** Number of set bits of a 32-bit word (SWAR population count). */
-function bitCount(v: number): number {
-  v -= (v >>> 1) & 0x55555555
-  v = (v & 0x33333333) + ((v >>> 2) & 0x33333333)
-  return Math.imul((v + (v >>> 4)) & 0x0f0f0f0f, 0x01010101) >>> 24
 }
 
 /**

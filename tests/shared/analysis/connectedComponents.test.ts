@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { labelBothPhases, labelComponents } from '@shared/analysis/connectedComponents'
+import { componentStats, componentStatsBothPhases, labelBothPhases, labelComponents } from '@shared/analysis/connectedComponents'
 import { createRandom } from '@shared/analysis/seededRandom'
 import type { Connectivity } from '@shared/analysis/types'
 
@@ -159,6 +159,30 @@ describe('labelBothPhases', () => {
     const { up, down } = labelBothPhases({ width: 64, height: 64, data })
     expect(up.count).toBe(bfsComponents(data, 64, 64, 8, 1).count)
     expect(down.count).toBe(bfsComponents(data, 64, 64, 4, 0).count)
+  })
+})
+
+describe('componentStats', () => {
+  it('When no label image is needed, then the statistics equal labelComponents\' with and without an ignore map', () => {
+    // Same labelling, only the painting is left out: compared field by field on random masks (fixed seed 77).
+    const width = 45
+    const height = 38
+    const data = randomMask(width, height, 0.5, 77)
+    const ignore = randomMask(width, height, 0.05, 78)
+    for (const connectivity of [4, 8] as const) {
+      for (const value of [0, 1]) {
+        for (const options of [{}, { ignore }]) {
+          const { labels, ...expected } = labelComponents(data, width, height, connectivity, value, options)
+          expect(labels.length).toBe(width * height)
+          expect(componentStats(data, width, height, connectivity, value, options)).toMatchObject(expected)
+        }
+      }
+    }
+    const both = componentStatsBothPhases({ width, height, data })
+    const labelled = labelBothPhases({ width, height, data })
+    expect(both.up.sizes).toEqual(labelled.up.sizes)
+    expect(both.down.sizes).toEqual(labelled.down.sizes)
+    expect(both.down.touchesBorder).toEqual(labelled.down.touchesBorder)
   })
 })
 

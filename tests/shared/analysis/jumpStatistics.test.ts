@@ -126,6 +126,30 @@ describe('flippedClusters', () => {
     expect(result.deltaM).toBeCloseTo(binaryMagnetization(after) - binaryMagnetization(before), 14)
   })
 
+  it('When frames carry no ignore map, then the packed route gives what the per-pixel route gives with an empty one', () => {
+    // Two routes of the same method (METHODS §5.3): frames without ignore maps are compared on packed rows; an
+    // all-zero ignore map takes the per-pixel route. Sizes off the 32-pixel grid (37, 70) exercise the padding bits.
+    const random = createRandom(41) // fixed seed 41
+    for (const [width, height] of [[37, 23], [64, 64], [70, 5], [1, 9]]) {
+      const before = mask(width, height)
+      const after = mask(width, height)
+      const next = mask(width, height)
+      for (let i = 0; i < before.data.length; i++) {
+        before.data[i] = random() < 0.5 ? 1 : 0
+        after.data[i] = random() < 0.3 ? 1 - before.data[i] : before.data[i]
+        next.data[i] = random() < 0.2 ? 1 - after.data[i] : after.data[i]
+      }
+      const none = new Uint8Array(width * height)
+      const withEmptyIgnore = (m: BinaryMask): BinaryMask => ({ ...m, ignore: none })
+      for (const minArea of [1, 3]) {
+        expect(flippedClusters(before, after, minArea)).toEqual(flippedClusters(withEmptyIgnore(before), after, minArea))
+        expect(flippedClusters(before, after, minArea, { persistFrame: next })).toEqual(
+          flippedClusters(withEmptyIgnore(before), after, minArea, { persistFrame: next }),
+        )
+      }
+    }
+  })
+
   it('When frames are identical, empty or differ in size, then nothing flips, or a RangeError names the sizes', () => {
     const a = mask(8, 8, 1)
     expect(flippedClusters(a, mask(8, 8, 1))).toMatchObject({ sizes: [], deltaM: 0, censored: 0 })
