@@ -259,6 +259,26 @@ describe('images', () => {
       const names = [...page1.body.items, ...page2.body.items].map((i: { name: string }) => i.name)
       expect(names).toEqual([...names].sort())
     })
+
+    it('When frames are annotated, then the list shows each image as new, in progress or submitted, as its detail does', async () => {
+      // The list computes the state in SQL, the detail from the frame rows: both must follow the same rule.
+      const res = await upload([{ name: 'states.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 71), ramp(8, 8, 72), ramp(8, 8, 73)])) }])
+      const id = res.body[0].id
+      const shown = async () => {
+        const list = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&search=states.tif`)
+        const detail = await microscopist.agent.get(`/api/images/${id}`)
+        expect(list.body.items).toHaveLength(1)
+        expect(list.body.items[0].annotationStatus).toBe(detail.body.annotationStatus)
+        return list.body.items[0].annotationStatus
+      }
+      expect(await shown()).toBe('new')
+      await Frame.update({ annotationStatus: 'submitted' }, { where: { imageId: id, index: 0 } })
+      expect(await shown()).toBe('in-progress')
+      await Frame.update({ annotationStatus: 'submitted' }, { where: { imageId: id } })
+      expect(await shown()).toBe('submitted')
+      await Frame.update({ annotationStatus: 'in-progress' }, { where: { imageId: id, index: 2 } })
+      expect(await shown()).toBe('in-progress')
+    })
   })
 
   describe('PATCH /api/images/:imageId', () => {
