@@ -25,9 +25,12 @@ const deletion = createDeletionService(deps)
 /** Originals of the runs being processed are streamed here; the folder's sweep removes what a killed worker left. */
 const scratch = openUploadTempFolder(config.uploadTmpDir)
 
+/** Runs this worker is processing now (any other run of its own that still reads "running" was left by a failure). */
+const activeRuns = new Set<number>()
+
 /** Runs whose worker died are queued again; the claim in processStackRun makes a double send harmless. */
 async function requeueOrphans() {
-  for (const id of await findOrphanedRuns(staleSeconds, workerName)) {
+  for (const id of await findOrphanedRuns(staleSeconds, workerName, activeRuns)) {
     const [updated] = await StackRun.update({ status: 'queued' }, { where: { id, status: 'running' } })
     if (updated) {
       console.log(`[worker] run ${id} lost its worker: queued again`)
@@ -40,7 +43,8 @@ const boss = await jobs.boss()
 await pool.ready()
 await boss.work<StackJobData>(STACK_QUEUE, { pollingIntervalSeconds: 0.5, batchSize: 1 }, async ([job]) => {
   const started = Date.now()
-  const outcome = await processStackRun({ ...deps, pool, scratch }, job.data.runId, { workerName, staleSeconds })
+  activeRuns.add(job.data.runId)
+  const outcome = await processStackRun({ ...deps, pool, scratch }, job.data.runId, { workerName, staleSeconds }).finally(() => activeRuns.delete(job.data.runId))
   if (outcome === 'processed') console.log(`[worker] run ${job.data.runId} finished in ${((Date.now() - started) / 1000).toFixed(1)} s`)
 })
 await requeueOrphans().catch((err) => console.error('[worker] requeue failed:', err.message))

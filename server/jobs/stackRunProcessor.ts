@@ -172,9 +172,13 @@ async function runPasses(deps: ProcessorDeps, run: StackRun) {
   }
 }
 
-/** Runs that are running with a stale heartbeat (their worker died), other than this worker's own: ids to queue again. */
-export async function findOrphanedRuns(staleSeconds: number, workerName: string): Promise<number[]> {
+/**
+ * Runs that are running with a stale heartbeat, to be queued again: those of a worker that died, and this worker's own
+ * that it is no longer processing (an attempt that ended while the database was unreachable could not mark its run
+ * failed; left alone, the run would read "running" until pg-boss expired the job half an hour later).
+ */
+export async function findOrphanedRuns(staleSeconds: number, workerName: string, activeRunIds: ReadonlySet<number>): Promise<number[]> {
   const stale = new Date(Date.now() - staleSeconds * 1000)
-  const runs = await StackRun.findAll({ where: { status: 'running', heartbeatAt: { [Op.lt]: stale }, worker: { [Op.ne]: workerName } }, attributes: ['id'] })
-  return runs.map((r) => r.id)
+  const runs = await StackRun.findAll({ where: { status: 'running', heartbeatAt: { [Op.lt]: stale } }, attributes: ['id', 'worker'] })
+  return runs.filter((r) => r.worker !== workerName || !activeRunIds.has(r.id)).map((r) => r.id)
 }

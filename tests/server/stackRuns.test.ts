@@ -15,6 +15,7 @@ import { renderFieldSweep, renderTemperatureRamp } from '../../scripts/sampleIma
 import { analyzeStack } from '../../shared/analysis/analyzeStack'
 import { normalizeRecipe } from '../../shared/analysis/recipe'
 import { StackFrameResult, StackRun } from '../../server/models'
+import { findOrphanedRuns } from '../../server/jobs/stackRunProcessor'
 
 const HC_MT = 7.3
 const STEP_MT = 2
@@ -143,6 +144,22 @@ describe('stack runs', () => {
     expect(Math.abs(detail.body.curie.tc - 390) / 390).toBeLessThan(0.02)
     expect(detail.body.curie.beta).toBeGreaterThan(0.2)
   }, 120_000)
+
+  it('When a run reads "running" with a stale heartbeat, then it is queued again unless its own worker is still on it', async () => {
+    // E.g. an attempt that ended while the database was down could not mark its run failed.
+    const run = (await StackRun.findOne({ order: [['id', 'DESC']] }))!
+    const before = { status: run.status, worker: run.worker, heartbeatAt: run.heartbeatAt }
+    await run.update({ status: 'running', worker: 'here:1', heartbeatAt: new Date(Date.now() - 120_000) })
+    try {
+      expect(await findOrphanedRuns(60, 'here:1', new Set())).toContain(run.id)
+      expect(await findOrphanedRuns(60, 'here:1', new Set([run.id]))).not.toContain(run.id)
+      expect(await findOrphanedRuns(60, 'elsewhere:2', new Set())).toContain(run.id)
+      await run.update({ heartbeatAt: new Date() })
+      expect(await findOrphanedRuns(60, 'elsewhere:2', new Set())).not.toContain(run.id)
+    } finally {
+      await run.update(before)
+    }
+  })
 
   it('When a reviewer of another lab asks for the run, then 404', async () => {
     const other = await createLabWithRoles('StacksElsewhere')
