@@ -158,6 +158,18 @@ export function labelRuns(words: Int32Array, width: number, height: number, conn
 let phaseBits = new Int32Array(0)
 let analysableBits = new Int32Array(0)
 
+/** The pixels of `phase` equal to `value`, packed into the module's buffer (grown for a larger image): valid until the next call. */
+function packedPhase(phase: Uint8Array, width: number, height: number, value: number): Int32Array {
+  const words = wordsPerRow(width) * height
+  if (phaseBits.length < words) {
+    phaseBits = new Int32Array(words)
+    analysableBits = new Int32Array(words)
+  }
+  const packed = phaseBits.subarray(0, words)
+  packEqual(phase, width, height, value, packed)
+  return packed
+}
+
 /**
  * Label the pixels of `phase` equal to `value`.
  * @param connectivity 4 or 8.
@@ -185,17 +197,12 @@ export function labelComponents(
   const ignore = options.ignore
   const reach = connectivity === 8 ? 1 : 0
 
-  const words = wordsPerRow(width) * height
-  if (phaseBits.length < words) {
-    phaseBits = new Int32Array(words)
-    analysableBits = new Int32Array(words)
-  }
-  packEqual(phase, width, height, value, phaseBits)
+  const words = packedPhase(phase, width, height, value)
   if (ignore !== undefined) {
     packEqual(ignore, width, height, 0, analysableBits)
-    for (let i = 0; i < words; i++) phaseBits[i] &= analysableBits[i]
+    for (let i = 0; i < words.length; i++) words[i] &= analysableBits[i]
   }
-  const stats = runStatistics(labelRuns(phaseBits, width, height, connectivity), width, height, labels)
+  const stats = runStatistics(labelRuns(words, width, height, connectivity), width, height, labels)
   if (ignore !== undefined && stats.count > 0) flagIgnoreContacts(labels, ignore, width, height, reach, stats.touchesIgnore)
   return { labels, ...stats }
 }
@@ -250,13 +257,7 @@ export function componentStats(
   options: { ignore?: Uint8Array; labelsOut?: Int32Array } = {},
 ): ComponentStats {
   if (options.ignore !== undefined) return labelComponents(phase, width, height, connectivity, value, options)
-  const words = wordsPerRow(width) * height
-  if (phaseBits.length < words) {
-    phaseBits = new Int32Array(words)
-    analysableBits = new Int32Array(words)
-  }
-  packEqual(phase, width, height, value, phaseBits)
-  return packedComponentStats(phaseBits, width, height, connectivity)
+  return packedComponentStats(packedPhase(phase, width, height, value), width, height, connectivity)
 }
 
 /** componentStats of the set bits of packed rows (as packEqual makes them; padding bits 0), no ignore map. */
