@@ -11,7 +11,7 @@ import { migrateToLatest } from '../server/migrator'
 import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
 import { ensureSamples } from './ensureSamples'
 import { seedDemoLab } from './seed'
-import { portIsOpen, run, spawnService, waitForPort } from './processes'
+import { portIsOpen, run, spawnService, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
 
 const root = fileURLToPath(new URL('..', import.meta.url))
 process.chdir(root)
@@ -67,7 +67,7 @@ try {
   console.log('[build] building the client')
   await run('node_modules/.bin/vite', ['build', '--logLevel', 'warn'])
   const config = loadConfig()
-  const server = spawnService('web', tsx, ['server/index.ts'], env)
+  const server = spawnService('web', process.execPath, [...WEB_SERVER_NODE_FLAGS, '--import', 'tsx', 'server/index.ts'], env)
   children.push(server)
   server.once('exit', (code) => {
     console.error(`[web] exited with ${code}`)
