@@ -11,7 +11,6 @@ import type {
   SaveAnnotationRequest,
   SaveAnnotationResponse,
 } from '@shared/types/annotation'
-import type { FrameAnnotationStatus } from '@shared/types/image'
 import { http } from './http'
 
 /**
@@ -63,10 +62,6 @@ export async function restoreVersion(frameId: number, version: number, baseVersi
 /** The frame's latest analysis (measurements with units), or null before the first save. */
 export function getFrameAnalysis(frameId: number): Promise<AnalysisDto | null> {
   return http.get<AnalysisDto | null>(`/frames/${frameId}/analysis`)
-}
-
-export function setFrameStatus(frameId: number, status: FrameAnnotationStatus): Promise<{ frameId: number; status: FrameAnnotationStatus }> {
-  return http.put<{ frameId: number; status: FrameAnnotationStatus }>(`/frames/${frameId}/status`, { status })
 }
 
 /** Frames to annotate: the person's own (default), or every assigned frame, optionally of one project. */

@@ -11,7 +11,8 @@ import { DEFAULT_RECIPE, normalizeRecipe, type AnalysisRecipe } from '@shared/an
 import type { BinaryMask } from '@shared/analysis/types'
 import { maskFromBase64, maskToBase64 } from '@shared/imageio/maskEncoding'
 import type { AnalysisDto, AnnotationDto, AnnotationShape, AnnotationVersionDto } from '@shared/types/annotation'
-import { getAnnotation, getFrameAnalysis, listVersions, restoreVersion, saveAnnotation, setFrameStatus, type SaveOutcome } from '@/api/annotations'
+import { getAnnotation, getFrameAnalysis, listVersions, restoreVersion, saveAnnotation, type SaveOutcome } from '@/api/annotations'
+import { reviewStep } from '@/api/reviews'
 import { asApiError, type ApiError } from '@/api/http'
 import { useMaskHistory } from '@/composables/useMaskHistory'
 import { countUp, fullRect, type PixelRect } from '@/maskRaster'
@@ -372,12 +373,17 @@ export const useWorkspaceStore = defineStore('workspace', () => {
     return true
   }
 
-  /** Save what is unsaved, then mark the frame submitted for review. Resolves false when the save did not go through. */
+  /**
+   * Save what is unsaved, then submit the analysis of the saved version, which puts it in the reviewers' queue and marks
+   * the frame submitted (one step on the server). Resolves false when the save did not go through or there is no
+   * analysis to submit; throws ApiError when the server refuses (e.g. 409 `analysis-has-no-results`).
+   */
   async function submitForReview(): Promise<boolean> {
-    const id = frameId.value
-    if (id === null || !editable.value) return false
+    if (frameId.value === null || !editable.value) return false
     if (dirty.value && !(await save())) return false
-    await setFrameStatus(id, 'submitted')
+    const latest = analysis.value
+    if (latest === null) return false
+    await reviewStep(latest.id, 'submit')
     return true
   }
 

@@ -37,6 +37,7 @@ function frameServer(answer?: (request: RecordedRequest) => Response) {
     [`GET /api/frames/${FRAME}/annotations`]: () => jsonResponse(200, []),
     [`GET /api/frames/${FRAME}/analysis`]: () => jsonResponse(200, null),
     [`PUT /api/frames/${FRAME}/status`]: (request) => jsonResponse(200, { frameId: FRAME, ...(request.body as object) }),
+    [`POST /api/analyses/${analysis(1).id}/submit`]: () => jsonResponse(200, { ...analysis(1), status: 'submitted' }),
     [`POST /api/frames/${FRAME}/annotations`]: (request) => {
       if (answer) return answer(request)
       latest++
@@ -171,15 +172,15 @@ describe('useWorkspaceStore save', () => {
 })
 
 describe('useWorkspaceStore submitForReview', () => {
-  it('When unsaved edits are submitted, then they are saved first and then the frame is marked submitted', async () => {
+  it('When unsaved edits are submitted, then they are saved first and then the saved version\'s analysis is submitted', async () => {
     const { requests } = frameServer()
     const store = await openedStore()
     paint(store, 12, 12)
     expect(await store.submitForReview()).toBe(true)
-    // The save goes first, then the status.
-    expect(requests.filter((r) => r.method !== 'GET').map((r) => [r.method, r.body && (r.body as { status?: string }).status])).toEqual([
-      ['POST', undefined],
-      ['PUT', 'submitted'],
+    // The save goes first, then the analysis it produced goes to the reviewers (the server marks the frame with it).
+    expect(requests.filter((r) => r.method !== 'GET').map((r) => `${r.method} ${r.url}`)).toEqual([
+      `POST /api/frames/${FRAME}/annotations`,
+      `POST /api/analyses/${analysis(1).id}/submit`,
     ])
     expect(store.saveState).toBe('saved')
   })
