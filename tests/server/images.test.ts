@@ -260,6 +260,49 @@ describe('images', () => {
       expect(names).toEqual([...names].sort())
     })
 
+    it('When walked page by page in every sort order, then the pages join into the same order the rows sort to, and a page past the end keeps the total', async () => {
+      // Reference: the same rows sorted by the model (Sequelize), independent of the list's hand-written SQL.
+      const rows = await Image.findAll({ where: { projectId: home.project.id, deletedAt: null } })
+      const keys: Record<string, (i: Image) => string | number> = { name: (i) => i.name, createdAt: (i) => i.createdAt.getTime(), frameCount: (i) => i.frameCount, technique: (i) => i.technique }
+      for (const [sort, key] of Object.entries(keys)) {
+        for (const order of ['asc', 'desc'] as const) {
+          const sign = order === 'asc' ? 1 : -1
+          const expected = [...rows].sort((a, b) => (key(a) < key(b) ? -sign : key(a) > key(b) ? sign : a.id - b.id)).map((i) => i.id)
+          const walked: number[] = []
+          for (let page = 1; walked.length < expected.length && page <= expected.length; page++) {
+            const res = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&pageSize=3&page=${page}&sort=${sort}&order=${order}`)
+            expect(res.status).toBe(200)
+            expect(res.body.total).toBe(expected.length)
+            walked.push(...res.body.items.map((i: { id: number }) => i.id))
+          }
+          expect(walked, `${sort} ${order}`).toEqual(expected)
+        }
+      }
+      const past = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&pageSize=3&page=999`)
+      expect(past.body).toMatchObject({ items: [], total: rows.length, page: 999 })
+    })
+
+    it('When filtered by technique, status, date or a search with wildcard characters, then only matching images are listed', async () => {
+      const res = await upload([{ name: 'odd_100%.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 91), ramp(8, 8, 92)])) }])
+      const id = res.body[0].id
+      await microscopist.agent.patch(`/api/images/${id}`).set('x-csrf-token', microscopist.csrf).send({ technique: 'mfm' })
+      const ids = async (query: string) => (await microscopist.agent.get(`/api/images?projectId=${home.project.id}&pageSize=200&${query}`)).body.items.map((i: { id: number }) => i.id)
+      // '%' and '_' are literal characters of the search, not SQL wildcards.
+      expect(await ids('search=_100%25')).toEqual([id])
+      expect(await ids('search=odd%25')).toEqual([])
+      const mfm = await ids('technique=mfm')
+      expect(mfm).toContain(id)
+      expect(mfm).toEqual((await Image.findAll({ where: { projectId: home.project.id, technique: 'mfm', deletedAt: null } })).map((i) => i.id).filter((i) => mfm.includes(i)))
+      // The status filter follows the state the list shows: one of two frames submitted is "in progress", not "submitted".
+      await Frame.update({ annotationStatus: 'submitted' }, { where: { imageId: id, index: 0 } })
+      expect(await ids('status=submitted')).not.toContain(id)
+      expect(await ids('status=in-progress')).toContain(id)
+      expect(await ids('status=new')).not.toContain(id)
+      const created = (await Image.findByPk(id))!.createdAt
+      expect(await ids(`from=${new Date(created.getTime() + 60_000).toISOString()}`)).not.toContain(id)
+      expect(await ids(`from=${new Date(created.getTime() - 60_000).toISOString()}&to=${new Date(created.getTime() + 60_000).toISOString()}`)).toContain(id)
+    })
+
     it('When frames are annotated, then the list shows each image as new, in progress or submitted, as its detail does', async () => {
       // The list computes the state in SQL, the detail from the frame rows: both must follow the same rule.
       const res = await upload([{ name: 'states.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 71), ramp(8, 8, 72), ramp(8, 8, 73)])) }])
