@@ -6,7 +6,7 @@ import passport from 'passport'
 import { Strategy as LocalStrategy } from 'passport-local'
 import { User } from '../models'
 import { verifyPassword } from './passwords'
-import { loadSessionUser } from './sessionUser'
+import { loadSessionUser, sessionUserFor } from './sessionUser'
 
 export const LOCK_AFTER_FAILURES = 10
 export const LOCK_MINUTES = 15
@@ -28,7 +28,7 @@ export function configurePassport(): passport.PassportStatic {
   )
   passport.serializeUser((user, done) => done(null, user.id))
   passport.deserializeUser((id: number, done) => {
-    loadSessionUser(id).then((user) => done(null, user ?? false), done)
+    sessionUserFor(id).then((user) => done(null, user ?? false), done)
   })
   return passport
 }

@@ -2,7 +2,7 @@
  * Sequelize model definitions (models only: the schema itself is made by the migrations in server/migrations/).
  * `defineModels` binds every model to one connection and declares the associations.
  */
-import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize } from 'sequelize'
+import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize, type Transaction } from 'sequelize'
 import type { LabRole } from '../../shared/auth/permissions'
 import type { AnalysisStatus, Technique } from '../../shared/types/lab'
 
@@ -298,6 +298,33 @@ export interface Models {
   LabMaterial: typeof LabMaterial
 }
 
+/** Told whenever a user, lab or membership row is written through the models (caches of who may do what listen). */
+const identityListeners = new Set<() => void>()
+
+export function onIdentityRowsWritten(listener: () => void): void {
+  identityListeners.add(listener)
+}
+
+type WriteOptions = { transaction?: Transaction | null } | undefined
+
+function identityRowsWritten(options: WriteOptions): void {
+  const notify = () => identityListeners.forEach((listener) => listener())
+  notify()
+  // Inside a transaction the change shows only at commit: a read made in between must not outlive it.
+  options?.transaction?.afterCommit(notify)
+}
+
+/** After-write hooks of the identity models (instance and bulk writes alike). */
+const IDENTITY_HOOKS = {
+  afterCreate: (_row: unknown, options: WriteOptions) => identityRowsWritten(options),
+  afterUpdate: (_row: unknown, options: WriteOptions) => identityRowsWritten(options),
+  afterDestroy: (_row: unknown, options: WriteOptions) => identityRowsWritten(options),
+  afterUpsert: (_result: unknown, options: WriteOptions) => identityRowsWritten(options),
+  afterBulkCreate: (_rows: unknown, options: WriteOptions) => identityRowsWritten(options),
+  afterBulkUpdate: (options: WriteOptions) => identityRowsWritten(options),
+  afterBulkDestroy: (options: WriteOptions) => identityRowsWritten(options),
+}
+
 /**
  * Bind every model to `sequelize` and declare associations. `Model.init` resets a class's associations, so they are
  * declared again on every call (tests bind a second connection).
@@ -315,9 +342,9 @@ export function defineModels(sequelize: Sequelize): Models {
       lockedUntil: { type: DataTypes.DATE, allowNull: true },
       ...timestamps,
     },
-    base('users'),
+    { ...base('users'), hooks: IDENTITY_HOOKS },
   )
-  Lab.init({ id, name: { type: DataTypes.STRING(200), allowNull: false }, institution: { type: DataTypes.STRING(200), allowNull: false, defaultValue: '' }, ...timestamps }, base('labs'))
+  Lab.init({ id, name: { type: DataTypes.STRING(200), allowNull: false }, institution: { type: DataTypes.STRING(200), allowNull: false, defaultValue: '' }, ...timestamps }, { ...base('labs'), hooks: IDENTITY_HOOKS })
   Membership.init(
     {
       id,
@@ -325,7 +352,7 @@ export function defineModels(sequelize: Sequelize): Models {
       active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
       ...timestamps,
     },
-    base('memberships'),
+    { ...base('memberships'), hooks: IDENTITY_HOOKS },
   )
   Project.init(
     {

@@ -6,7 +6,7 @@
  */
 import { API_TOKEN_PREFIX, type ApiTokenDto, type CreatedApiTokenDto } from '../../shared/types/apiToken'
 import type { SessionUser } from '../auth/sessionUser'
-import { loadSessionUser } from '../auth/sessionUser'
+import { sessionUserFor } from '../auth/sessionUser'
 import { createSecretToken, hashSecretToken } from '../auth/secretToken'
 import { notFound } from '../errors'
 import { ApiToken } from '../models'
@@ -58,7 +58,7 @@ export function createApiTokenService() {
     if (!token.startsWith(API_TOKEN_PREFIX)) return null
     const row = await ApiToken.findOne({ where: { tokenHash: hashSecretToken(token), revokedAt: null } })
     if (!row || (row.expiresAt && row.expiresAt.getTime() <= Date.now())) return null
-    const user = await loadSessionUser(row.userId)
+    const user = await sessionUserFor(row.userId)
     if (!user) return null
     if (!row.lastUsedAt || Date.now() - row.lastUsedAt.getTime() > LAST_USED_RESOLUTION_MS) await row.update({ lastUsedAt: new Date() })
     return user
