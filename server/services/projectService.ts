@@ -1,24 +1,26 @@
 /** Projects and samples: list, create and edit, always inside a lab the person belongs to. */
-import { fn, col, Op } from 'sequelize'
+import { literal, Op } from 'sequelize'
 import type { ProjectDto, SampleDto } from '../../shared/types/lab'
 import type { SessionUser } from '../auth/sessionUser'
 import { assertLabAction } from '../auth/guards'
 import { notFound } from '../errors'
-import { Image, Project, Sample } from '../models'
+import { Project, Sample } from '../models'
 import { recordAudit } from './auditService'
 
 export async function listProjects(user: SessionUser): Promise<ProjectDto[]> {
   const labIds = user.memberships.map((m) => m.labId)
   if (labIds.length === 0) return []
-  const projects = await Project.findAll({ where: { labId: { [Op.in]: labIds }, deletedAt: null }, order: [['name', 'ASC']] })
-  const ids = projects.map((p) => p.id)
-  const [samples, images] = await Promise.all([
-    Sample.findAll({ attributes: ['projectId', [fn('COUNT', col('id')), 'n']], where: { projectId: ids }, group: ['projectId'], raw: true }),
-    Image.findAll({ attributes: ['projectId', [fn('COUNT', col('id')), 'n']], where: { projectId: ids, deletedAt: null }, group: ['projectId'], raw: true }),
-  ])
-  const count = (rows: unknown[], id: number) => Number((rows as { projectId: number; n: number }[]).find((r) => r.projectId === id)?.n ?? 0)
-  return projects.map((p) => toProjectDto(p, count(samples, p.id), count(images, p.id)))
+  // The counts as correlated subqueries: one round trip for a list every page of the app asks for.
+  const projects = await Project.findAll({
+    attributes: { include: [[literal(SAMPLE_COUNT_SQL), 'sampleCount'], [literal(IMAGE_COUNT_SQL), 'imageCount']] },
+    where: { labId: { [Op.in]: labIds }, deletedAt: null },
+    order: [['name', 'ASC']],
+  })
+  return projects.map((p) => toProjectDto(p, Number(p.get('sampleCount')), Number(p.get('imageCount'))))
 }
+
+const SAMPLE_COUNT_SQL = '(SELECT count(*) FROM samples AS s WHERE s.project_id = "Project"."id")'
+const IMAGE_COUNT_SQL = '(SELECT count(*) FROM images AS i WHERE i.project_id = "Project"."id" AND i.deleted_at IS NULL)'
 
 function toProjectDto(p: Project, sampleCount: number, imageCount: number): ProjectDto {
   return { id: p.id, labId: p.labId, name: p.name, description: p.description, createdAt: p.createdAt.toISOString(), sampleCount, imageCount }

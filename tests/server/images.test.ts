@@ -324,6 +324,20 @@ describe('images', () => {
     })
   })
 
+  describe('GET /api/projects', () => {
+    it('When images are uploaded and one is deleted, then the project lists its live images and samples by count', async () => {
+      const { Sample } = await import('../../server/models')
+      const res = await upload([{ name: 'counted.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 95)])) }])
+      const counts = async () => (await microscopist.agent.get('/api/projects')).body.find((p: { id: number }) => p.id === home.project.id)
+      const expected = async () => ({ imageCount: await Image.count({ where: { projectId: home.project.id, deletedAt: null } }), sampleCount: await Sample.count({ where: { projectId: home.project.id } }) })
+      const before = await counts()
+      expect(before).toMatchObject(await expected())
+      expect(before.imageCount).toBeGreaterThan(0)
+      await Image.update({ deletedAt: new Date() }, { where: { id: res.body[0].id } })
+      expect(await counts()).toMatchObject({ ...(await expected()), imageCount: before.imageCount - 1 })
+    })
+  })
+
   describe('PATCH /api/images/:imageId', () => {
     it('When the pixel size is typed in, then it is stored with its source and the edit is audited', async () => {
       const res = await upload([{ name: 'calib.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 77)])) }])
