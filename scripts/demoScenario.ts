@@ -93,3 +93,16 @@ export const DEMO_IMAGES: { file: string; frames?: string; sample: string; techn
     acquiredAt: '2026-11-20T09:00:00Z',
   },
 ]
+
+/** Frames the demo annotator has finished: submitted for review, and approved where there is an approval note. */
+export const DEMO_REVIEWS: { file: string; submitNote: string; approveNote?: string }[] = [
+  {
+    file: 'KB24-A250_remanent.tif',
+    submitNote: 'Automatic segmentation, default recipe; checked the labyrinth edges by eye, nothing to correct.',
+    approveNote: 'Period and wall density in line with the A200 piece. Approved.',
+  },
+  {
+    file: 'KB24-A200_remanent.tif',
+    submitNote: 'Automatic segmentation, default recipe. Two specks near the top edge look like dust — please have a look.',
+  },
+]
