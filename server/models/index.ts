@@ -614,6 +614,7 @@ export function defineModels(sequelize: Sequelize): Models {
   Annotation.belongsTo(User, { foreignKey: 'authorId', as: 'author' })
   Frame.hasMany(Analysis, { foreignKey: 'frameId' })
   Analysis.belongsTo(Frame, { foreignKey: 'frameId' })
+  Analysis.belongsTo(Annotation, { foreignKey: 'annotationId' })
   Analysis.hasMany(Review, { foreignKey: 'analysisId' })
   Analysis.hasMany(Comment, { foreignKey: 'analysisId' })
   Image.hasMany(StackRun, { foreignKey: 'imageId' })

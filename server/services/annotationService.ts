@@ -58,15 +58,16 @@ export function createAnnotationService(deps: { sequelize: Sequelize; store: Obj
   const { sequelize, store, measurer } = deps
 
   async function frameFor(user: SessionUser, frameId: number, action: Parameters<typeof assertLabAction>[2]): Promise<FrameContext> {
-    const frame = await Frame.findByPk(frameId)
+    // Frame, live image and live project in one query: every frame request starts here.
+    const frame = await Frame.findByPk(frameId, {
+      include: [{ model: Image, required: true, where: { deletedAt: null }, include: [{ model: Project, required: true, attributes: ['id', 'labId'], where: { deletedAt: null } }] }],
+    })
     if (!frame) throw notFound('frame')
-    const image = await Image.findOne({ where: { id: frame.imageId, deletedAt: null } })
-    if (!image) throw notFound('frame')
-    const project = await Project.findOne({ where: { id: image.projectId, deletedAt: null } })
-    if (!project) throw notFound('frame')
-    assertLabAction(user, project.labId, 'lab.read', 'frame')
-    assertLabAction(user, project.labId, action, 'frame')
-    return { frame, image, labId: project.labId }
+    const image = (frame as unknown as { Image: Image & { Project: Project } }).Image
+    const labId = image.Project.labId
+    assertLabAction(user, labId, 'lab.read', 'frame')
+    assertLabAction(user, labId, action, 'frame')
+    return { frame, image, labId }
   }
 
   async function rawFrame(image: Image, index: number): Promise<GrayImage> {
@@ -178,10 +179,9 @@ export function createAnnotationService(deps: { sequelize: Sequelize; store: Obj
 
   async function latestAnalysis(user: SessionUser, frameId: number): Promise<AnalysisDto | null> {
     await frameFor(user, frameId, 'lab.read')
-    const analysis = await Analysis.findOne({ where: { frameId }, order: [['id', 'DESC']] })
+    const analysis = await Analysis.findOne({ where: { frameId }, order: [['id', 'DESC']], include: [{ model: Annotation, attributes: ['version'], required: false }] })
     if (!analysis) return null
-    const annotation = analysis.annotationId ? await Annotation.findByPk(analysis.annotationId) : null
-    return toAnalysisDto(analysis, annotation?.version ?? null)
+    return toAnalysisDto(analysis, (analysis as unknown as { Annotation: Annotation | null }).Annotation?.version ?? null)
   }
 
   async function queue(user: SessionUser, scope: { assigneeId?: number; projectId?: number }): Promise<QueueFrameDto[]> {

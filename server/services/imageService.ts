@@ -11,7 +11,7 @@
  */
 import { randomUUID, createHash } from 'node:crypto'
 import { open, readFile } from 'node:fs/promises'
-import { QueryTypes } from 'sequelize'
+import { QueryTypes, type Includeable } from 'sequelize'
 import type { Sequelize } from 'sequelize'
 import { probeImage, ImageDecodeError, type ImageHeader } from '../../shared/imageio/decodeImage'
 import { parseFramesCsv, validateFramesCsv, FramesCsvError } from '../../shared/imageio/framesCsv'
@@ -244,8 +244,11 @@ export function createImageService(deps: ImageServiceDeps) {
     }
   }
 
-  async function findImageFor(user: SessionUser, imageId: number, action: Parameters<typeof assertLabAction>[2] = 'lab.read') {
-    const image = await Image.findOne({ where: { id: imageId, deletedAt: null }, include: [{ model: Project, attributes: ['id', 'labId'], where: { deletedAt: null } }] })
+  /** @param withSample also load the image's sample (as `Sample`) in the same query. */
+  async function findImageFor(user: SessionUser, imageId: number, action: Parameters<typeof assertLabAction>[2] = 'lab.read', withSample = false) {
+    const include: Includeable[] = [{ model: Project, attributes: ['id', 'labId'], where: { deletedAt: null } }]
+    if (withSample) include.push({ model: Sample, attributes: ['id', 'name', 'annealTemperatureC'], required: false })
+    const image = await Image.findOne({ where: { id: imageId, deletedAt: null }, include })
     if (!image) throw notFound('image')
     const labId = (image as unknown as { Project: Project }).Project.labId
     assertLabAction(user, labId, action, 'image')
@@ -253,9 +256,9 @@ export function createImageService(deps: ImageServiceDeps) {
   }
 
   async function getDetail(user: SessionUser, imageId: number): Promise<ImageDetailDto> {
-    const { image } = await findImageFor(user, imageId)
+    const { image } = await findImageFor(user, imageId, 'lab.read', true)
     const frames = await Frame.findAll({ where: { imageId }, order: [['index', 'ASC']], include: [{ model: User, as: 'assignee', attributes: ['id', 'name'] }] })
-    const sample = image.sampleId ? await Sample.findByPk(image.sampleId) : null
+    const sample = (image as unknown as { Sample: Sample | null }).Sample
     return {
       ...toSummaryDto(image, imageAnnotationStatus(frames.map((f) => f.annotationStatus))),
       notes: image.notes,
