@@ -293,8 +293,8 @@ export function createImageService(deps: ImageServiceDeps) {
     const { sql, replacements } = imageListQuery(labIds, query)
     const rows = await sequelize.query<ImageListRow>(sql, { replacements, type: QueryTypes.SELECT })
     // A page past the end has no row to carry the total: count on its own then.
-    const total = rows.length > 0 || query.page === 1 ? Number(rows[0]?.total_count ?? 0) : await countImages(labIds, query)
-    return { items: rows.map(toSummaryDtoFromRow), total, page: query.page, pageSize: query.pageSize }
+    const total = rows.length > 0 || query.page === 1 ? Number(rows[0]?.totalCount ?? 0) : await countImages(labIds, query)
+    return { items: rows.map((row) => toSummaryDto(row, row.annotationStatus)), total, page: query.page, pageSize: query.pageSize }
   }
 
   async function countImages(labIds: number[], query: ImageListQuery): Promise<number> {
@@ -370,7 +370,7 @@ function checkMotionTimes<T extends { kind: string; rows: { frame: number; line:
   return table
 }
 
-function toUploadedDto(image: Image): UploadedImageDto {
+function toUploadedDto(image: Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'pixelSizeNm'>): UploadedImageDto {
   return { id: image.id, name: image.name, sha256: image.sha256, width: image.width, height: image.height, bitDepth: image.bitDepth, frameCount: image.frameCount, pixelSizeNm: image.pixelSizeNm }
 }
 
@@ -439,54 +439,22 @@ function imageListQuery(labIds: number[], query: ImageListQuery): { sql: string;
       SELECT "Image".id, "Image".${column} AS sort_key, count(*) OVER () AS total_count
       FROM images AS "Image" WHERE ${where}
       ORDER BY "Image".${column} ${direction}, "Image".id ASC LIMIT :limit OFFSET :offset)
-    SELECT "Image".id, "Image".name, "Image".sha256, "Image".width, "Image".height, "Image".bit_depth, "Image".frame_count,
-      "Image".pixel_size_nm, "Image".project_id, "Image".sample_id, "Image".uploaded_by_id, "Image".technique,
-      "Image".created_at, "Image".acquired_at, page.total_count, ${ANNOTATION_STATUS_SQL} AS annotation_status
+    SELECT "Image".id, "Image".name, "Image".sha256, "Image".width, "Image".height, "Image".bit_depth AS "bitDepth",
+      "Image".frame_count AS "frameCount", "Image".pixel_size_nm AS "pixelSizeNm", "Image".project_id AS "projectId",
+      "Image".sample_id AS "sampleId", "Image".uploaded_by_id AS "uploadedById", "Image".technique,
+      "Image".created_at AS "createdAt", "Image".acquired_at AS "acquiredAt", page.total_count AS "totalCount",
+      ${ANNOTATION_STATUS_SQL} AS "annotationStatus"
     FROM page JOIN images AS "Image" ON "Image".id = page.id
     ORDER BY page.sort_key ${direction}, page.id ASC`
   return { sql, replacements: { ...replacements, limit: query.pageSize, offset: (query.page - 1) * query.pageSize } }
 }
 
-interface ImageListRow {
-  id: number
-  name: string
-  sha256: string
-  width: number
-  height: number
-  bit_depth: number
-  frame_count: number
-  pixel_size_nm: number | null
-  project_id: number
-  sample_id: number | null
-  uploaded_by_id: number | null
-  technique: Technique
-  created_at: Date
-  acquired_at: Date | null
-  total_count: string
-  annotation_status: FrameAnnotationStatus
-}
+/** The image columns a list row shows: a model instance and a row of `imageListQuery` both have them. */
+type ImageSummaryFields = Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'pixelSizeNm' | 'projectId' | 'sampleId' | 'uploadedById' | 'technique' | 'createdAt' | 'acquiredAt'>
 
-function toSummaryDtoFromRow(row: ImageListRow): ImageSummaryDto {
-  return {
-    id: row.id,
-    name: row.name,
-    sha256: row.sha256,
-    width: row.width,
-    height: row.height,
-    bitDepth: row.bit_depth,
-    frameCount: row.frame_count,
-    pixelSizeNm: row.pixel_size_nm,
-    projectId: row.project_id,
-    sampleId: row.sample_id,
-    uploadedById: row.uploaded_by_id,
-    technique: row.technique,
-    createdAt: row.created_at.toISOString(),
-    acquiredAt: row.acquired_at ? row.acquired_at.toISOString() : null,
-    annotationStatus: row.annotation_status,
-  }
-}
+type ImageListRow = ImageSummaryFields & { totalCount: string; annotationStatus: FrameAnnotationStatus }
 
-function toSummaryDto(image: Image, annotationStatus: FrameAnnotationStatus): ImageSummaryDto {
+function toSummaryDto(image: ImageSummaryFields, annotationStatus: FrameAnnotationStatus): ImageSummaryDto {
   return {
     ...toUploadedDto(image),
     projectId: image.projectId,
