@@ -51,6 +51,7 @@ const QueueItemSchema = z.object({
   author: PersonSchema,
   submittedBy: PersonSchema,
   submittedAt: z.string().nullable(),
+  submitNote: z.string(),
   annotationVersion: z.number().int().nullable(),
   openComments: z.number().int(),
   superseded: z.boolean(),
@@ -88,10 +89,10 @@ export function registerReviewRoutes(api: ApiDefinition, reviews: ReviewService)
     handler: (req, _res, { params }) => reviews.detail(currentUser(req), params.analysisId),
   })
 
-  const transitions: { action: ReviewAction; summary: string; message: boolean }[] = [
-    { action: 'submit', summary: 'Submit an analysis for review (draft or changes requested → waiting for review); e-mails the lab\u2019s reviewers', message: false },
-    { action: 'approve', summary: 'Approve an analysis waiting for review (not one\u2019s own); it is locked from then on; e-mails the submitter', message: false },
-    { action: 'request-changes', summary: 'Send an analysis back with a message (waiting for review → changes requested); e-mails the submitter', message: true },
+  const transitions: { action: ReviewAction; summary: string; message: 'required' | 'optional' }[] = [
+    { action: 'submit', summary: 'Submit an analysis for review (draft or changes requested → waiting for review), with an optional note for the reviewer; e-mails the lab\u2019s reviewers', message: 'optional' },
+    { action: 'approve', summary: 'Approve an analysis waiting for review (not one\u2019s own), with an optional note; it is locked from then on; e-mails the submitter', message: 'optional' },
+    { action: 'request-changes', summary: 'Send an analysis back with a message (waiting for review → changes requested); e-mails the submitter', message: 'required' },
   ]
   for (const t of transitions) {
     apiRoute(api, {
@@ -101,7 +102,7 @@ export function registerReviewRoutes(api: ApiDefinition, reviews: ReviewService)
       tags: ['reviews'],
       access: 'signed-in',
       params: analysisParams,
-      body: t.message ? z.object({ message: z.string().trim().min(1).max(10_000) }) : z.object({}),
+      body: t.message === 'required' ? z.object({ message: z.string().trim().min(1).max(10_000) }) : z.object({ message: z.string().trim().max(10_000).optional() }),
       responses: { 200: { description: 'The analysis after the step', schema: ReviewedAnalysisSchema }, ...TransitionErrors },
       handler: (req, _res, { params, body }) => reviews.transition(currentUser(req), params.analysisId, t.action, (body as { message?: string }).message ?? ''),
     })

@@ -278,6 +278,7 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
         author: byId(r.createdById),
         submittedBy: submit ? byId(submit.reviewerId) : null,
         submittedAt: submit ? submit.createdAt.toISOString() : null,
+        submitNote: submit?.message ?? '',
         annotationVersion: annotations.find((a) => a.id === r.annotationId)?.version ?? null,
         openComments: Number((openComments as unknown as { analysisId: number; n: number }[]).find((c) => c.analysisId === r.id)?.n ?? 0),
         superseded: maxId > r.id,

@@ -96,6 +96,8 @@ export interface ReviewQueueItemDto {
   author: PersonRefDto | null
   submittedBy: PersonRefDto | null
   submittedAt: string | null
+  /** What the submitter wrote with the latest submission ('' when nothing). */
+  submitNote: string
   annotationVersion: number | null
   openComments: number
   superseded: boolean

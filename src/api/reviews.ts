@@ -8,11 +8,11 @@ export function getReviewedAnalysis(analysisId: number): Promise<ReviewedAnalysi
 }
 
 /**
- * Move an analysis one step (`request-changes` needs a message). Throws `ApiError`: 409 `illegal-transition`,
+ * Move an analysis one step (`request-changes` needs a message; submit and approve take an optional note). Throws `ApiError`: 409 `illegal-transition`,
  * `analysis-superseded` or `analysis-has-no-results`; 403 `own-analysis` when approving one's own work.
  */
 export function reviewStep(analysisId: number, action: ReviewAction, message?: string): Promise<ReviewedAnalysisDto> {
-  return http.post<ReviewedAnalysisDto>(`/analyses/${analysisId}/${action}`, action === 'request-changes' ? { message } : {})
+  return http.post<ReviewedAnalysisDto>(`/analyses/${analysisId}/${action}`, message ? { message } : {})
 }
 
 /** Comments, oldest first. */

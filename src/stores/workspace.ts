@@ -378,12 +378,13 @@ export const useWorkspaceStore = defineStore('workspace', () => {
    * the frame submitted (one step on the server). Resolves false when the save did not go through or there is no
    * analysis to submit; throws ApiError when the server refuses (e.g. 409 `analysis-has-no-results`).
    */
-  async function submitForReview(): Promise<boolean> {
+  /** Save what is unsaved, then submit the saved version's analysis, with an optional note for the reviewer. */
+  async function submitForReview(note = ''): Promise<boolean> {
     if (frameId.value === null || !editable.value) return false
     if (dirty.value && !(await save())) return false
     const latest = analysis.value
     if (latest === null) return false
-    await reviewStep(latest.id, 'submit')
+    await reviewStep(latest.id, 'submit', note.trim() || undefined)
     return true
   }
 

@@ -40,7 +40,7 @@ describe('review workflow', () => {
   afterAll(() => ctx.stop())
 
   const act = (who: Session, analysisId: number, action: ReviewAction, message?: string) =>
-    who.agent.post(`/api/analyses/${analysisId}/${action}`).set('x-csrf-token', who.csrf).send(action === 'request-changes' ? { message: message ?? 'Please redo the walls near the edge.' } : {})
+    who.agent.post(`/api/analyses/${analysisId}/${action}`).set('x-csrf-token', who.csrf).send(action === 'request-changes' ? { message: message ?? 'Please redo the walls near the edge.' } : message ? { message } : {})
 
   /** A fresh analysis in `status` that is the newest of its frame (so only the state machine decides). */
   const analysisIn = async (status: AnalysisStatus) =>
@@ -111,7 +111,7 @@ describe('review workflow', () => {
       frameId = frameIds[0]
       const saved = await saveAutoMask(s.annotator, frameId, frames[0], PIXEL_NM, (await latestVersion(frameId)) ?? null)
       analysisId = saved.id
-      const res = await act(s.annotator, analysisId, 'submit')
+      const res = await act(s.annotator, analysisId, 'submit', '  Corrected the walls along the scratch at the left edge.  ')
       expect(res.status).toBe(200)
       expect(res.body).toMatchObject({ status: 'submitted', statusLabel: 'Waiting for review', submittedBy: { id: home.people.annotator.id }, superseded: false })
       expect((await Frame.findByPk(frameId))!.annotationStatus).toBe('submitted')
@@ -138,6 +138,7 @@ describe('review workflow', () => {
         sample: { name: 'CoFeB 300C' },
         author: { id: home.people.annotator.id },
         submittedBy: { id: home.people.annotator.id },
+        submitNote: 'Corrected the walls along the scratch at the left edge.',
         superseded: false,
         openComments: 0,
       })

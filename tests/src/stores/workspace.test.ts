@@ -184,6 +184,17 @@ describe('useWorkspaceStore submitForReview', () => {
     ])
     expect(store.saveState).toBe('saved')
   })
+
+  it('When a note for the reviewer is given, then it goes with the submission, trimmed; a blank note sends none', async () => {
+    const { requests } = frameServer()
+    const store = await openedStore()
+    paint(store, 12, 12)
+    expect(await store.submitForReview('  look at the scratch  ')).toBe(true)
+    const submits = () => requests.filter((r) => r.url.endsWith('/submit'))
+    expect(submits().map((r) => r.body)).toEqual([{ message: 'look at the scratch' }])
+    expect(await store.submitForReview('   ')).toBe(true)
+    expect(submits().map((r) => r.body)).toEqual([{ message: 'look at the scratch' }, {}])
+  })
 })
 
 describe('useWorkspaceStore undo', () => {
