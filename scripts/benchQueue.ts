@@ -17,7 +17,10 @@
  *       with one thread per core against two workers with half as many each (the same total), time until all are done;
  *       fresh workers for every phase, each warmed up by one untimed run first (as long-running workers are), R rounds
  *       in the order 1, 2, 2, 1, … workers (the machine is shared: this keeps a drifting load from favouring one side),
- *       means reported.
+ *       means reported;
+ *   (c) scale-out of one run: one run queued, one worker with one thread against two workers with one thread each (an
+ *       idle worker joins a run under way, frame by frame), fresh warmed-up workers per phase as in (b), R rounds in
+ *       the order 1, 2, 2, 1, …, means reported, with the frames each worker measured (from the frame claims).
  * Cleanup (also on failure, Ctrl-C or when the time limit is hit): workers stopped, the objects it stored in the bucket
  * removed, the database dropped, PostgreSQL stopped if this script started it.
  * Usage: tsx scripts/benchQueue.ts [--json] [--runs N] [--rounds R] [--minutes M]   (N runs per (b) phase, default 4;
@@ -95,6 +98,16 @@ interface PhaseResult {
   attempts: number
 }
 
+interface SharedRunPhase {
+  order: number
+  workers: number
+  /** Queued → done, ms. */
+  ms: number
+  /** Frames measured by each worker (claims), largest first. */
+  framesPerWorker: number[]
+  loadAverage: { start: number[]; end: number[] }
+}
+
 interface QueueBenchReport {
   node: string
   cpus: number
@@ -123,6 +136,11 @@ interface QueueBenchReport {
   oneWorker: PhaseResult[]
   twoWorkers: PhaseResult[]
   twoWorkersFaster: boolean
+  /** (c) one run, 1 worker × 1 thread against 2 workers × 1 thread: means over the rounds, and every phase. */
+  sharedRunOneWorkerMs: number
+  sharedRunTwoWorkersMs: number
+  sharedRunPhases: SharedRunPhase[]
+  twoWorkersFasterOnOneRun: boolean
   targetSingleRunMs: number
   singleRunTargetMet: boolean
   warmRunTargetMet: boolean
@@ -393,6 +411,25 @@ async function main(): Promise<void> {
     for (let round = 0; round < rounds; round++) for (const workerCount of round % 2 === 0 ? [1, 2] : [2, 1]) phases.push(await phase(workerCount))
     const oneWorker = phases.filter((p) => p.workers === 1)
     const twoWorkers = phases.filter((p) => p.workers === 2)
+    // (c) One run, one or two one-thread workers: a second worker joins the run under way.
+    const sharedRunPhases: SharedRunPhase[] = []
+    const sharedRunPhase = async (workerCount: number): Promise<SharedRunPhase> => {
+      progress(`(c) one run, ${workerCount} worker(s) × 1 thread`)
+      const { started } = await startWorkers(workerCount, 1)
+      await waitForRuns(await enqueue(workerCount))
+      const loadBefore = load()
+      const t0 = performance.now()
+      const [id] = await enqueue(1)
+      const ms = Math.round((await waitForRuns([id])) - t0)
+      const loadAfter = load()
+      await stopAll(started)
+      const [perWorker] = (await deps.sequelize.query('SELECT count(*)::int AS frames FROM stack_frame_claims WHERE run_id = :id GROUP BY worker ORDER BY 1 DESC', { replacements: { id } })) as [{ frames: number }[], unknown]
+      return { order: sharedRunPhases.length + 1, workers: workerCount, ms, framesPerWorker: perWorker.map((r) => r.frames), loadAverage: { start: loadBefore, end: loadAfter } }
+    }
+    for (let round = 0; round < rounds; round++) for (const workerCount of round % 2 === 0 ? [1, 2] : [2, 1]) sharedRunPhases.push(await sharedRunPhase(workerCount))
+    const sharedRunOneWorkerMs = meanMs(sharedRunPhases.filter((p) => p.workers === 1))
+    const sharedRunTwoWorkersMs = meanMs(sharedRunPhases.filter((p) => p.workers === 2))
+
     const oneWorkerThroughputMs = meanMs(oneWorker)
     const twoWorkersThroughputMs = meanMs(twoWorkers)
 
@@ -419,6 +456,10 @@ async function main(): Promise<void> {
       oneWorker,
       twoWorkers,
       twoWorkersFaster: twoWorkersThroughputMs < oneWorkerThroughputMs,
+      sharedRunOneWorkerMs,
+      sharedRunTwoWorkersMs,
+      sharedRunPhases,
+      twoWorkersFasterOnOneRun: sharedRunTwoWorkersMs < sharedRunOneWorkerMs,
       targetSingleRunMs: TARGET_SINGLE_RUN_MS,
       singleRunTargetMet: singleRun.ms <= TARGET_SINGLE_RUN_MS,
       warmRunTargetMet: warmRun.ms <= TARGET_SINGLE_RUN_MS,
@@ -462,6 +503,14 @@ function printTable(r: QueueBenchReport): void {
     `| worker start-up (spawn → waiting for runs), not in the times above | ${s(r.workerStartMs)} | | |`,
     `| ${r.throughputRuns} runs, 1 worker × ${one[0].threadsPerWorker} threads, mean of ${one.length} | ${s(r.oneWorkerThroughputMs)} (${r.oneWorkerRunsPerMinute} runs/min) | | |`,
     `| ${r.throughputRuns} runs, 2 workers × ${two[0].threadsPerWorker} thread(s), mean of ${two.length} | ${s(r.twoWorkersThroughputMs)} (${r.twoWorkersRunsPerMinute} runs/min) | faster than 1 worker | ${r.twoWorkersFaster ? 'met' : 'missed'} |`,
+    `| one run, 1 worker × 1 thread, mean of ${r.sharedRunPhases.filter((p) => p.workers === 1).length} | ${s(r.sharedRunOneWorkerMs)} | | |`,
+    `| one run, 2 workers × 1 thread (the second joins the run), mean of ${r.sharedRunPhases.filter((p) => p.workers === 2).length} | ${s(r.sharedRunTwoWorkersMs)} | faster than 1 worker | ${r.twoWorkersFasterOnOneRun ? 'met' : 'missed'} |`,
+    '',
+    'One run, phases in the order run:',
+    '',
+    '| workers × threads | queued → done | frames per worker | load average (1 min) start → end |',
+    '|---|---:|---|---|',
+    ...r.sharedRunPhases.map((p) => `| ${p.workers} × 1 | ${s(p.ms)} | ${p.framesPerWorker.join(' + ')} | ${p.loadAverage.start[0]} → ${p.loadAverage.end[0]} |`),
     '',
     'Throughput phases in the order run:',
     '',

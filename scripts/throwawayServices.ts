@@ -1,7 +1,9 @@
 /**
  * Services of their own for the loopback load test and the upload benchmark: a database `<DATABASE_URL>_<name>`
- * (dropped and re-created, then migrated) on the PostgreSQL that `scripts/postgres.sh` runs, and s3rver and the SMTP
- * sink on free 127.0.0.1 ports with their data in a temporary folder. `close()` stops them and removes the folder.
+ * (dropped and re-created, then migrated) on the PostgreSQL that `scripts/postgres.sh` runs, s3rver in a process of
+ * its own (as a deployment's store is another machine: in the script's process it would share the event loop of the
+ * load generator or benchmark and slow down what they time) and the SMTP sink, on free 127.0.0.1 ports with their
+ * data in a temporary folder. `close()` stops them and removes the folder.
  */
 import { mkdtempSync, rmSync } from 'node:fs'
 import { tmpdir } from 'node:os'
@@ -10,7 +12,7 @@ import pg from 'pg'
 import { loadConfig, type AppConfig } from '../server/config'
 import { createDeps } from '../server/runtime'
 import { migrateToLatest } from '../server/migrator'
-import { startS3Server } from './s3Server'
+import { freePort, spawnService, waitForPort } from './processes'
 import { startMailSink } from './mailSink'
 
 async function recreateDatabase(url: URL) {
@@ -27,13 +29,33 @@ async function recreateDatabase(url: URL) {
   }
 }
 
+/** s3rver (scripts/s3Server.ts) as a child process on a free port; `close()` stops it. */
+async function startS3Process(directory: string, bucket: string) {
+  const port = await freePort()
+  const child = spawnService('s3', process.execPath, ['--import', 'tsx', 'scripts/s3Server.ts'], {
+    ...process.env,
+    S3_PORT: String(port),
+    S3_DATA_DIR: directory,
+    S3_BUCKET: bucket,
+  })
+  const exited = new Promise((resolve) => child.once('exit', resolve))
+  await waitForPort(port, 's3rver')
+  return {
+    endpoint: `http://127.0.0.1:${port}`,
+    async close() {
+      child.kill('SIGTERM')
+      await exited
+    },
+  }
+}
+
 export async function startThrowawayServices(name: string, overrides: Partial<AppConfig> = {}) {
   const databaseUrl = new URL(process.env.DATABASE_URL ?? loadConfig().databaseUrl)
   databaseUrl.pathname = `${databaseUrl.pathname}_${name}`
   await recreateDatabase(databaseUrl)
   const work = mkdtempSync(path.join(tmpdir(), `remanence-${name}-`))
   const bucket = `remanence-${name.replace(/_/g, '-')}`
-  const s3 = await startS3Server({ port: 0, directory: path.join(work, 's3'), bucket })
+  const s3 = await startS3Process(path.join(work, 's3'), bucket)
   const mail = await startMailSink({ port: 0, directory: path.join(work, 'mail') })
   const config = loadConfig({
     databaseUrl: databaseUrl.toString(),

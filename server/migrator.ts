@@ -10,6 +10,7 @@ import * as stackRuns from './migrations/0003-stack-runs'
 import * as collaboration from './migrations/0004-collaboration'
 import * as labMaterials from './migrations/0005-lab-materials'
 import * as motionFrames from './migrations/0006-motion-frames'
+import * as frameClaims from './migrations/0007-frame-claims'
 
 /** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
 const MIGRATIONS = [
@@ -19,6 +20,7 @@ const MIGRATIONS = [
   { name: '0004-collaboration', module: collaboration },
   { name: '0005-lab-materials', module: labMaterials },
   { name: '0006-motion-frames', module: motionFrames },
+  { name: '0007-frame-claims', module: frameClaims },
 ]
 
 export function createMigrator(sequelize: Sequelize) {

@@ -32,6 +32,11 @@ export type { FrameTaskContext, MaskMeasureContext, RenderedFrame } from './anal
 export interface AnalysisPoolOptions {
   /** Worker threads; default os.availableParallelism(). */
   size?: number
+  /**
+   * Scheduling niceness of the threads (0 … 19, Linux only; elsewhere ignored). The web server runs its threads nicer
+   * than its request thread, so that rendering an upload yields a shared core to the people browsing.
+   */
+  niceness?: number
 }
 
 /** A file whose bytes every worker can read. */
@@ -155,7 +160,7 @@ export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisP
   function spawn(): PoolWorker {
     // execArgv [] : the bundle needs no loader, and the bootstrap registers tsx itself (the parent's flags would load
     // it twice). workerData must be an object: the web-worker package (loaded by geotiff) reads workerData.mod.
-    const worker = new Worker(analysisWorkerScript().url, { execArgv: [], workerData: {} })
+    const worker = new Worker(analysisWorkerScript().url, { execArgv: [], workerData: { niceness: options.niceness ?? 0 } })
     let markReady: () => void = () => {}
     const entry: PoolWorker = { worker, ready: new Promise<void>((resolve) => (markReady = resolve)), started: false, current: null, failure: null }
     worker.on('message', (message: WorkerResponse) => {

@@ -11,7 +11,9 @@
  */
 import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
-import { parentPort } from 'node:worker_threads'
+import { readlinkSync } from 'node:fs'
+import { setPriority } from 'node:os'
+import { parentPort, workerData } from 'node:worker_threads'
 import { analyzeFrame, measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { frameContrastPass, frameHistogramPass, frameMeasurePass, rawRange } from '../../shared/analysis/analyzeStack'
 import { analyzeMotion } from '../../shared/analysis/analyzeMotion'
@@ -36,6 +38,21 @@ interface SharedFile {
 
 const port = parentPort
 if (port === null) throw new Error('analysisWorker.ts must run in a worker thread (use createAnalysisPool).')
+
+/**
+ * Lower this thread's scheduling priority (Linux schedules threads on their own: setpriority on the thread's id, which
+ * /proc/thread-self names, changes only this thread). Where that is not possible the thread runs at normal priority.
+ */
+function lowerThreadPriority(niceness: number): void {
+  if (!(niceness > 0)) return
+  try {
+    const threadId = Number(readlinkSync('/proc/thread-self').split('/').pop())
+    if (Number.isInteger(threadId) && threadId > 0) setPriority(threadId, niceness)
+  } catch {
+    // not Linux, or not permitted: normal priority
+  }
+}
+lowerThreadPriority(Number((workerData as { niceness?: number } | null)?.niceness ?? 0))
 
 const files = new Map<number, SharedFile>()
 

@@ -13,6 +13,12 @@ export interface LazyAnalysisPool {
   close(): Promise<void>
 }
 
+/**
+ * Niceness of the web server's analysis threads: below the request thread, so that on a machine whose cores are all
+ * busy an upload's rendering waits for the requests of the people browsing, not the other way round.
+ */
+const WEB_ANALYSIS_NICENESS = 10
+
 export function createLazyAnalysisPool(size: number): LazyAnalysisPool {
   let pool: AnalysisPool | null = null
   let closed = false
@@ -20,7 +26,7 @@ export function createLazyAnalysisPool(size: number): LazyAnalysisPool {
     size,
     get() {
       if (closed) throw new Error('The analysis pool is closed.')
-      pool ??= createAnalysisPool({ size })
+      pool ??= createAnalysisPool({ size, niceness: WEB_ANALYSIS_NICENESS })
       return pool
     },
     async close() {

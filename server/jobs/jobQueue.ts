@@ -6,6 +6,8 @@
 import PgBoss from 'pg-boss'
 
 export const STACK_QUEUE = 'stack-analysis'
+/** Requests for an idle worker to join a run another worker owns (server/jobs/stackRunProcessor.ts, helpStackRun). */
+export const STACK_HELP_QUEUE = 'stack-analysis-help'
 
 export interface StackJobData {
   runId: number
@@ -13,6 +15,8 @@ export interface StackJobData {
 
 export interface JobQueue {
   sendStackRun(runId: number): Promise<void>
+  /** Ask for a worker to join the run, at once or after `delaySeconds` (a busy worker passes a request on). */
+  sendStackHelp(runId: number, delaySeconds?: number): Promise<void>
   boss(): Promise<PgBoss>
   close(): Promise<void>
 }
@@ -31,6 +35,9 @@ export function createJobQueue(databaseUrl: string): JobQueue {
       const id = await (await boss()).send(STACK_QUEUE, { runId } satisfies StackJobData)
       if (!id) throw new Error(`the job for stack run ${runId} was not queued`)
     },
+    async sendStackHelp(runId, delaySeconds = 0) {
+      await (await boss()).send(STACK_HELP_QUEUE, { runId } satisfies StackJobData, { startAfter: delaySeconds, retryLimit: 0, expireInMinutes: 30 })
+    },
     async close() {
       if (!started) return
       const instance = await started.catch(() => null)
@@ -46,6 +53,7 @@ async function startBoss(databaseUrl: string): Promise<PgBoss> {
   await instance.start()
   try {
     await instance.createQueue(STACK_QUEUE)
+    await instance.createQueue(STACK_HELP_QUEUE)
   } catch (err) {
     // Started but unusable: stop its timers and pool before the next caller starts another.
     await instance.stop({ graceful: false, wait: true }).catch(() => {})

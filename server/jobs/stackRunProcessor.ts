@@ -1,10 +1,13 @@
 /**
- * Processes one stack run in a worker process: claim the run → stream the original from the object store into a
- * scratch file, which the analysis threads read frame by frame (this process never holds the stack) → the stack
- * passes in the analysis thread pool, each frame's result written as soon as that frame is done (upserts: a resumed
- * run overwrites, never duplicates), so storing overlaps the analysis of the next frames → the stack summary (loop,
- * jumps, Curie fit). A frame that fails is recorded with its error and the others are kept. A run whose worker died
- * (no heartbeat for `staleSeconds`) can be claimed again and resumes where the stored frame results end.
+ * Processes one stack run in worker processes. The run's owner (`processStackRun`): claim the run → stream the
+ * original from the object store into a scratch file, which the analysis threads read frame by frame (no process holds
+ * the stack) → the stack-wide threshold → ask for help (any idle worker may join, `helpStackRun`) → measure frames,
+ * each claimed first in `stack_frame_claims` so that the owner and its helpers never measure the same one, each
+ * frame's result written as soon as it is done (upserts: a resumed run overwrites, never duplicates), so storing
+ * overlaps the analysis of the next frames → wait for the frames its helpers claimed, taking over those of a helper that
+ * went quiet → the stack summary (loop, jumps, Curie fit). A frame that fails is recorded with its error and the others
+ * are kept. A run whose owner died (no heartbeat for `staleSeconds`) can be claimed again and resumes where the stored
+ * frame results end.
  */
 import { randomBytes } from 'node:crypto'
 import { unlink } from 'node:fs/promises'
@@ -18,7 +21,7 @@ import type { BinaryMask } from '../../shared/analysis/types'
 import { decodeMask, encodeMask } from '../../shared/imageio/maskEncoding'
 import { Frame, Image, StackFrameResult, StackRun } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
-import type { AnalysisPool } from '../analysis/analysisPool'
+import type { AnalysisPool, SharedFile } from '../analysis/analysisPool'
 import { summarizeLoopInPool } from '../analysis/analyzeStackInPool'
 import type { UploadTempFolder } from '../http/uploadTempFolder'
 
@@ -31,6 +34,8 @@ export interface ProcessorDeps {
    * what a killed worker left behind); the system temp folder when not given.
    */
   scratch?: UploadTempFolder
+  /** Queues a request for another worker to join the run (`helpStackRun`); without it a run gets no helpers. */
+  requestHelp?: (runId: number) => Promise<void>
 }
 
 export interface ProcessorOptions {
@@ -51,19 +56,134 @@ async function claim(sequelize: Sequelize, runId: number, options: ProcessorOpti
   return rows.length ? StackRun.findByPk(runId) : null
 }
 
-const heartbeat = (runId: number, framesDone?: number) =>
-  StackRun.update({ heartbeatAt: new Date(), ...(framesDone !== undefined ? { framesDone } : {}) }, { where: { id: runId } })
+/** How often the owner looks for the results of frames its helpers claimed. */
+const HELPER_POLL_MS = 200
+
+/**
+ * Count the run's stored frame results into `frames_done` (owner and helpers each store their own frames, so no process
+ * has the count); the owner also moves the heartbeat that keeps its claim on the run.
+ */
+async function recordProgress(sequelize: Sequelize, runId: number, owner: boolean) {
+  await sequelize.query(
+    `UPDATE stack_runs SET frames_done = (SELECT count(*) FROM stack_frame_results WHERE run_id = :runId)${owner ? ', heartbeat_at = now()' : ''}
+     WHERE id = :runId`,
+    { replacements: { runId } },
+  )
+}
+
+/** The recipe segments with one threshold for the whole stack, which the owner computes before any frame is measured. */
+const needsStackThreshold = (recipe: AnalysisRecipe) => recipe.method === 'otsu' && recipe.stackThreshold === 'stack-wide'
+
+/**
+ * Claim the next frame of the run that nobody has claimed and that has no result, or null when none is left. Two
+ * workers may pick the same frame at once: the primary key lets one insert win, and the other tries the next frame.
+ */
+async function claimNextFrame(sequelize: Sequelize, runId: number, indices: number[], workerName: string): Promise<number | null> {
+  for (;;) {
+    const [rows] = (await sequelize.query(
+      `WITH candidate AS (
+         SELECT i FROM unnest(ARRAY[:indices]::int[]) AS i
+         WHERE NOT EXISTS (SELECT 1 FROM stack_frame_claims c WHERE c.run_id = :runId AND c.frame_index = i)
+           AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = :runId AND r.frame_index = i)
+         ORDER BY i LIMIT 1)
+       INSERT INTO stack_frame_claims (run_id, frame_index, worker, claimed_at)
+       SELECT :runId, i, :worker, now() FROM candidate
+       ON CONFLICT DO NOTHING
+       RETURNING frame_index`,
+      { replacements: { runId, indices: indices.length ? indices : [-1], worker: workerName } },
+    )) as [{ frame_index: number }[], unknown]
+    if (rows.length) return rows[0].frame_index
+    // Nothing inserted: either no candidate is left, or another worker took this one first.
+    if (!(await hasUnclaimedFrames(sequelize, runId, indices))) return null
+  }
+}
+
+/** Whether some frame of the run is neither claimed nor measured. */
+async function hasUnclaimedFrames(sequelize: Sequelize, runId: number, indices: number[]): Promise<boolean> {
+  const [[row]] = (await sequelize.query(
+    `SELECT EXISTS (SELECT 1 FROM unnest(ARRAY[:indices]::int[]) AS i
+       WHERE NOT EXISTS (SELECT 1 FROM stack_frame_claims c WHERE c.run_id = :runId AND c.frame_index = i)
+         AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = :runId AND r.frame_index = i)) AS "left"`,
+    { replacements: { runId, indices: indices.length ? indices : [-1] } },
+  )) as [{ left: boolean }[], unknown]
+  return row.left
+}
+
+/**
+ * Frames claimed by other workers and still without a result; those claimed more than `staleSeconds` ago (a helper that
+ * died or hung) are claimed again by this worker and returned in `takenOver`.
+ */
+async function pendingHelperFrames(sequelize: Sequelize, runId: number, workerName: string, staleSeconds: number) {
+  const [taken] = (await sequelize.query(
+    `UPDATE stack_frame_claims c SET worker = :worker, claimed_at = now()
+     WHERE c.run_id = :runId AND c.worker <> :worker AND c.claimed_at < now() - make_interval(secs => :stale)
+       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)
+     RETURNING c.frame_index`,
+    { replacements: { runId, worker: workerName, stale: staleSeconds } },
+  )) as [{ frame_index: number }[], unknown]
+  const [[waiting]] = (await sequelize.query(
+    `SELECT count(*)::int AS n FROM stack_frame_claims c WHERE c.run_id = :runId AND c.worker <> :worker
+       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)`,
+    { replacements: { runId, worker: workerName } },
+  )) as [{ n: number }[], unknown]
+  return { takenOver: taken.map((r) => r.frame_index), waiting: waiting.n }
+}
 
 export async function processStackRun(deps: ProcessorDeps, runId: number, options: ProcessorOptions): Promise<'processed' | 'skipped'> {
   const run = await claim(deps.sequelize, runId, options)
   if (!run) return 'skipped'
   try {
-    await runPasses(deps, run)
+    await runPasses(deps, run, options)
   } catch (err) {
     await run.update({ status: 'failed', error: (err as Error).message, finishedAt: new Date() })
     throw err
   }
   return 'processed'
+}
+
+export interface HelpOutcome {
+  /** 'helped' when this worker measured at least one frame of the run. */
+  outcome: 'helped' | 'skipped'
+  frames: number
+}
+
+/** How often a helper looks whether the owner has stored the stack-wide threshold yet. */
+const THRESHOLD_POLL_MS = 200
+
+/**
+ * Join a run another worker owns: fetch the original, wait for the stack-wide threshold when the recipe has one, then
+ * claim and measure frames beside the owner until none is left (the owner writes the summary). Asks for help in turn
+ * first, so a third worker can join as well. Skipped when the run is not running, is this worker's own, has no frame
+ * left to claim, or its owner went quiet before the threshold came.
+ */
+export async function helpStackRun(deps: ProcessorDeps, runId: number, options: ProcessorOptions): Promise<HelpOutcome> {
+  const skipped = { outcome: 'skipped', frames: 0 } as const
+  const run = await StackRun.findByPk(runId)
+  if (!run || run.status !== 'running' || run.worker === options.workerName) return skipped
+  const image = await Image.findOne({ where: { id: run.imageId, deletedAt: null } })
+  if (!image) return skipped
+  const recipe: AnalysisRecipe = normalizeRecipe(run.recipe as Partial<AnalysisRecipe>)
+  const indices = (await Frame.findAll({ where: { imageId: image.id }, attributes: ['index'], order: [['index', 'ASC']] })).map((f) => f.index)
+  // Late: every frame is taken (the owner is finishing), so fetching the original would be for nothing.
+  if (!(await hasUnclaimedFrames(deps.sequelize, runId, indices))) return skipped
+  await deps.requestHelp?.(runId).catch((err: Error) => console.error(`[worker] run ${runId}: help not requested: ${err.message}`))
+  const original = await fetchOriginal(deps, image.objectKey)
+  const file = deps.pool.openFile(original.path, image.name)
+  try {
+    let threshold = run.threshold ?? undefined
+    const deadline = Date.now() + 2 * options.staleSeconds * 1000
+    while (threshold === undefined && needsStackThreshold(recipe)) {
+      await new Promise((resolve) => setTimeout(resolve, THRESHOLD_POLL_MS))
+      await run.reload({ attributes: ['status', 'threshold', 'worker'] })
+      if (run.status !== 'running' || Date.now() > deadline) return skipped
+      threshold = run.threshold ?? undefined
+    }
+    const frames = await measureClaimedFrames(deps, { run, image, recipe, file, threshold, workerName: options.workerName, owner: false, freshMasks: null }, indices)
+    return { outcome: frames > 0 ? 'helped' : 'skipped', frames }
+  } finally {
+    deps.pool.releaseFile(file)
+    await original.release()
+  }
 }
 
 /** Stream the run's original into a scratch file, held against the folder's sweep until `release` is called. */
@@ -83,53 +203,99 @@ async function fetchOriginal(deps: ProcessorDeps, objectKey: string): Promise<{ 
   return { path: file, release }
 }
 
-async function runPasses(deps: ProcessorDeps, run: StackRun) {
-  const { store, pool } = deps
+/** What the owner and the helpers of a run share: the run, its image and recipe, and the opened original. */
+interface RunContext {
+  run: StackRun
+  image: Image
+  recipe: AnalysisRecipe
+  file: SharedFile
+  threshold: number | undefined
+  workerName: string
+  owner: boolean
+  /** The owner keeps the masks it measured for the summary; a helper's are read back from the store. */
+  freshMasks: Map<number, BinaryMask> | null
+}
+
+/** Measure one claimed frame and store its mask and result. */
+async function measureFrame(deps: ProcessorDeps, ctx: RunContext, index: number) {
+  const { run, image, recipe, file, threshold } = ctx
+  const [outcome] = await deps.pool.measurePass(file, [index], recipe, { pixelSizeNm: image.pixelSizeNm, threshold })
+  let maskKey: string | null = null
+  if (outcome.ok) {
+    maskKey = `${image.objectKey.replace(/\/original[^/]*$/, '')}/runs/${run.id}/masks/${outcome.index}.rmsk`
+    await deps.store.put(maskKey, Buffer.from(encodeMask(outcome.value.mask)), 'application/octet-stream')
+    ctx.freshMasks?.set(outcome.index, outcome.value.mask)
+  }
+  await StackFrameResult.upsert(
+    { runId: run.id, frameIndex: outcome.index, measurements: outcome.ok ? (outcome.value.measurements as unknown as Record<string, unknown>) : null, maskKey, error: outcome.ok ? null : outcome.error.message },
+    { conflictFields: ['run_id', 'frame_index'] as never },
+  )
+  await recordProgress(deps.sequelize, run.id, ctx.owner)
+}
+
+/**
+ * Claim and measure frames until none is left: `pool.size + 1` lanes, so no analysis thread idles while a finished
+ * frame is being stored. A lane that fails stops claiming; the error is thrown once the others have finished.
+ */
+async function measureClaimedFrames(deps: ProcessorDeps, ctx: RunContext, indices: number[]): Promise<number> {
+  let measured = 0
+  const lane = async () => {
+    for (let index = await claimNextFrame(deps.sequelize, ctx.run.id, indices, ctx.workerName); index !== null; index = await claimNextFrame(deps.sequelize, ctx.run.id, indices, ctx.workerName)) {
+      await measureFrame(deps, ctx, index)
+      measured++
+    }
+  }
+  const lanes = await Promise.allSettled(Array.from({ length: deps.pool.size + 1 }, lane))
+  const failure = lanes.find((l) => l.status === 'rejected')
+  if (failure) throw (failure as PromiseRejectedResult).reason
+  return measured
+}
+
+/** The owner waits for the frames its helpers claimed, and measures itself those of a helper that went quiet. */
+async function awaitHelpers(deps: ProcessorDeps, ctx: RunContext, staleSeconds: number) {
+  for (;;) {
+    const { takenOver, waiting } = await pendingHelperFrames(deps.sequelize, ctx.run.id, ctx.workerName, staleSeconds)
+    for (const index of takenOver) await measureFrame(deps, ctx, index)
+    if (waiting === 0) return
+    await recordProgress(deps.sequelize, ctx.run.id, true)
+    await new Promise((resolve) => setTimeout(resolve, HELPER_POLL_MS))
+  }
+}
+
+async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorOptions) {
+  const { store, pool, sequelize } = deps
   // A run queued before its image was deleted is not processed: a purge could remove the image mid-run.
   const image = await Image.findOne({ where: { id: run.imageId, deletedAt: null } })
   if (!image) throw new Error(`image ${run.imageId} of run ${run.id} was deleted`)
   const recipe: AnalysisRecipe = normalizeRecipe(run.recipe as Partial<AnalysisRecipe>)
   const frames = await Frame.findAll({ where: { imageId: image.id }, order: [['index', 'ASC']] })
   const meta: StackMeta = { pixelSizeNm: image.pixelSizeNm, fieldUnit: frames.find((f) => f.fieldUnit)?.fieldUnit ?? null, frames: frames.map((f) => ({ field: f.field, temperatureK: f.temperatureK })) }
+  // Claims of an earlier attempt without a result are void: their frames are measured again.
+  await sequelize.query(
+    `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId
+       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)`,
+    { replacements: { runId: run.id } },
+  )
   const original = await fetchOriginal(deps, image.objectKey)
   const file = pool.openFile(original.path, image.name)
   const all = frames.map((f) => f.index)
   try {
+    // Asked for now, so that a helper fetches the original while the threshold pass runs.
+    await deps.requestHelp?.(run.id).catch((err: Error) => console.error(`[worker] run ${run.id}: help not requested: ${err.message}`))
     let threshold = run.threshold ?? undefined
-    if (threshold === undefined && recipe.method === 'otsu' && recipe.stackThreshold === 'stack-wide') {
+    if (threshold === undefined && needsStackThreshold(recipe)) {
       const ranges = (await pool.rawRangePass(file, all)).filter((o) => o.ok).map((o) => (o as { value: { min: number; max: number } }).value)
       const range = safeHistogramRange(Math.min(...ranges.map((r) => r.min)), Math.max(...ranges.map((r) => r.max)), recipe)
       const histograms = (await pool.histogramPass(file, all, recipe, range)).filter((o) => o.ok).map((o) => (o as { value: Uint32Array }).value)
       threshold = pooledThreshold(histograms, range)
       await run.update({ threshold, heartbeatAt: new Date() })
     }
-    const done = new Set((await StackFrameResult.findAll({ where: { runId: run.id }, attributes: ['frameIndex'] })).map((r) => r.frameIndex))
-    const todo = all.filter((i) => !done.has(i))
-    // Masks of this attempt stay at hand for the summary; those of an earlier attempt are read back from the store.
-    const freshMasks = new Map<number, BinaryMask>()
-    let framesDone = done.size
-    // One task per frame, all queued at once: the pool stays busy while finished frames are being stored.
-    const stored = await Promise.allSettled(
-      todo.map(async (index) => {
-        const [outcome] = await pool.measurePass(file, [index], recipe, { pixelSizeNm: image.pixelSizeNm, threshold })
-        let maskKey: string | null = null
-        if (outcome.ok) {
-          maskKey = `${image.objectKey.replace(/\/original[^/]*$/, '')}/runs/${run.id}/masks/${outcome.index}.rmsk`
-          await store.put(maskKey, Buffer.from(encodeMask(outcome.value.mask)), 'application/octet-stream')
-          freshMasks.set(outcome.index, outcome.value.mask)
-        }
-        await StackFrameResult.upsert(
-          { runId: run.id, frameIndex: outcome.index, measurements: outcome.ok ? (outcome.value.measurements as unknown as Record<string, unknown>) : null, maskKey, error: outcome.ok ? null : outcome.error.message },
-          { conflictFields: ['run_id', 'frame_index'] as never },
-        )
-        framesDone++
-        await heartbeat(run.id, framesDone)
-      }),
-    )
-    const storeFailure = stored.find((s) => s.status === 'rejected')
-    if (storeFailure) throw (storeFailure as PromiseRejectedResult).reason
+    const ctx: RunContext = { run, image, recipe, file, threshold, workerName: options.workerName, owner: true, freshMasks: new Map() }
+    await measureClaimedFrames(deps, ctx, all)
+    await awaitHelpers(deps, ctx, options.staleSeconds)
+    const freshMasks = ctx.freshMasks!
 
-    // Summary from the stored results (also those of an earlier, interrupted attempt).
+    // Summary from the stored results (also those of helpers and of an earlier, interrupted attempt).
     const results = await StackFrameResult.findAll({ where: { runId: run.id }, order: [['frameIndex', 'ASC']] })
     const ok = results.filter((r) => r.measurements && r.maskKey)
     const measurements: FrameMeasurements[] = []

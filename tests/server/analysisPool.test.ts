@@ -2,10 +2,10 @@
  * The analysis worker pool (server/analysis/analysisPool.ts): a stack analysed in worker threads gives exactly the
  * one-thread result of shared/analysis/analyzeStack.ts, frames land by index, a damaged frame is reported with its
  * index while the others are kept, and the pool stays usable. Files on disk are read by path, and an upload's frames
- * are rendered there. Needs no database (it sits in the server project because it starts worker threads).
+ * are rendered there; threads started nicer than the request thread are. Needs no database (it sits in the server project because it starts worker threads).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs'
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { createAnalysisPool, measureMaskInPool, type AnalysisPool } from '../../server/analysis/analysisPool'
@@ -164,6 +164,24 @@ describe('analysis pool', () => {
     const pooled = await measureMaskInPool(pool, masks[0], { pixelSizeNm: 80, frame, recipe, detail: true })
     expect(pooled).toEqual(local)
     expect(pooled.measurements.contrast).not.toBeNull()
+  })
+
+  it.runIf(process.platform === 'linux')('When started with a niceness (as the web server does), then its threads run at that niceness and this thread does not', async () => {
+    // /proc/<pid>/task/<tid>/stat field 19 is the niceness (proc(5), Linux man-pages).
+    const nicenessOf = (tid: string) => {
+      const stat = readFileSync(`/proc/${process.pid}/task/${tid}/stat`, 'utf8')
+      return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[16])
+    }
+    const before = new Set(readdirSync(`/proc/${process.pid}/task`))
+    const nicePool = createAnalysisPool({ size: 2, niceness: 10 })
+    try {
+      await nicePool.ready()
+      const added = readdirSync(`/proc/${process.pid}/task`).filter((tid) => !before.has(tid))
+      expect(added.map(nicenessOf).filter((n) => n === 10)).toHaveLength(2)
+      expect(nicenessOf(String(process.pid))).toBe(0)
+    } finally {
+      await nicePool.close()
+    }
   })
 
   it('When the pool is closed, then new work is refused with a clear error', async () => {
