@@ -74,6 +74,14 @@ async function recordProgress(sequelize: Sequelize, runId: number, owner: boolea
 /** The recipe segments with one threshold for the whole stack, which the owner computes before any frame is measured. */
 const needsStackThreshold = (recipe: AnalysisRecipe) => recipe.method === 'otsu' && recipe.stackThreshold === 'stack-wide'
 
+/** Frame indices `i` of the run `:runId`, out of `:indices`, that nobody has claimed and that have no result. */
+const UNCLAIMED_FRAMES_SQL = `SELECT i FROM unnest(ARRAY[:indices]::int[]) AS i
+  WHERE NOT EXISTS (SELECT 1 FROM stack_frame_claims c WHERE c.run_id = :runId AND c.frame_index = i)
+    AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = :runId AND r.frame_index = i)`
+
+/** Condition on a claim `c`: its frame has no result yet. */
+const CLAIM_WITHOUT_RESULT_SQL = 'NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)'
+
 /**
  * Claim the next frame of the run that nobody has claimed and that has no result, or null when none is left. Two
  * workers may pick the same frame at once: the primary key lets one insert win, and the other tries the next frame.
@@ -81,11 +89,7 @@ const needsStackThreshold = (recipe: AnalysisRecipe) => recipe.method === 'otsu'
 async function claimNextFrame(sequelize: Sequelize, runId: number, indices: number[], workerName: string): Promise<number | null> {
   for (;;) {
     const [rows] = (await sequelize.query(
-      `WITH candidate AS (
-         SELECT i FROM unnest(ARRAY[:indices]::int[]) AS i
-         WHERE NOT EXISTS (SELECT 1 FROM stack_frame_claims c WHERE c.run_id = :runId AND c.frame_index = i)
-           AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = :runId AND r.frame_index = i)
-         ORDER BY i LIMIT 1)
+      `WITH candidate AS (${UNCLAIMED_FRAMES_SQL} ORDER BY i LIMIT 1)
        INSERT INTO stack_frame_claims (run_id, frame_index, worker, claimed_at)
        SELECT :runId, i, :worker, now() FROM candidate
        ON CONFLICT DO NOTHING
@@ -101,9 +105,7 @@ async function claimNextFrame(sequelize: Sequelize, runId: number, indices: numb
 /** Whether some frame of the run is neither claimed nor measured. */
 async function hasUnclaimedFrames(sequelize: Sequelize, runId: number, indices: number[]): Promise<boolean> {
   const [[row]] = (await sequelize.query(
-    `SELECT EXISTS (SELECT 1 FROM unnest(ARRAY[:indices]::int[]) AS i
-       WHERE NOT EXISTS (SELECT 1 FROM stack_frame_claims c WHERE c.run_id = :runId AND c.frame_index = i)
-         AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = :runId AND r.frame_index = i)) AS "left"`,
+    `SELECT EXISTS (${UNCLAIMED_FRAMES_SQL}) AS "left"`,
     { replacements: { runId, indices: indices.length ? indices : [-1] } },
   )) as [{ left: boolean }[], unknown]
   return row.left
@@ -117,13 +119,12 @@ async function pendingHelperFrames(sequelize: Sequelize, runId: number, workerNa
   const [taken] = (await sequelize.query(
     `UPDATE stack_frame_claims c SET worker = :worker, claimed_at = now()
      WHERE c.run_id = :runId AND c.worker <> :worker AND c.claimed_at < now() - make_interval(secs => :stale)
-       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)
+       AND ${CLAIM_WITHOUT_RESULT_SQL}
      RETURNING c.frame_index`,
     { replacements: { runId, worker: workerName, stale: staleSeconds } },
   )) as [{ frame_index: number }[], unknown]
   const [[waiting]] = (await sequelize.query(
-    `SELECT count(*)::int AS n FROM stack_frame_claims c WHERE c.run_id = :runId AND c.worker <> :worker
-       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)`,
+    `SELECT count(*)::int AS n FROM stack_frame_claims c WHERE c.run_id = :runId AND c.worker <> :worker AND ${CLAIM_WITHOUT_RESULT_SQL}`,
     { replacements: { runId, worker: workerName } },
   )) as [{ n: number }[], unknown]
   return { takenOver: taken.map((r) => r.frame_index), waiting: waiting.n }
@@ -272,8 +273,7 @@ async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorO
   const meta: StackMeta = { pixelSizeNm: image.pixelSizeNm, fieldUnit: frames.find((f) => f.fieldUnit)?.fieldUnit ?? null, frames: frames.map((f) => ({ field: f.field, temperatureK: f.temperatureK })) }
   // Claims of an earlier attempt without a result are void: their frames are measured again.
   await sequelize.query(
-    `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId
-       AND NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)`,
+    `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId AND ${CLAIM_WITHOUT_RESULT_SQL}`,
     { replacements: { runId: run.id } },
   )
   const original = await fetchOriginal(deps, image.objectKey)
