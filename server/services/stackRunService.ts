@@ -1,10 +1,10 @@
 /** Stack runs as the API sees them: start one (queued for a worker), list them, read progress and results. */
-import type { Sequelize } from 'sequelize'
+import { QueryTypes, type Sequelize } from 'sequelize'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
 import { ENGINE_VERSION } from '../../shared/analysis/engineVersion'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { CurieSummary, LoopSummary } from '../../shared/analysis/analyzeStack'
-import type { StackRunDetailDto, StackRunDto } from '../../shared/types/stack'
+import type { StackRunDetailDto, StackRunDto, StackRunWorkerDto } from '../../shared/types/stack'
 import type { SessionUser } from '../auth/sessionUser'
 import { AppError, notFound } from '../errors'
 import { Frame, StackFrameResult, StackRun } from '../models'
@@ -79,9 +79,13 @@ export function createStackRunService(deps: { sequelize: Sequelize; jobs: JobQue
     await images.findImageFor(user, run.imageId).catch(() => {
       throw notFound('stack-run')
     })
-    const [results, frames] = await Promise.all([
+    const [results, frames, workers] = await Promise.all([
       StackFrameResult.findAll({ where: { runId }, order: [['frameIndex', 'ASC']] }),
       Frame.findAll({ where: { imageId: run.imageId }, order: [['index', 'ASC']] }),
+      deps.sequelize.query<StackRunWorkerDto>(
+        'SELECT worker AS name, count(*)::int AS frames FROM stack_frame_claims WHERE run_id = :runId GROUP BY worker ORDER BY frames DESC, name',
+        { replacements: { runId }, type: QueryTypes.SELECT },
+      ),
     ])
     const summary = (run.summary ?? {}) as { loop?: LoopSummary | null; curie?: CurieSummary | null }
     return {
@@ -90,6 +94,7 @@ export function createStackRunService(deps: { sequelize: Sequelize; jobs: JobQue
         const r = results.find((x) => x.frameIndex === f.index)
         return { index: f.index, field: f.field, fieldUnit: f.fieldUnit, temperatureK: f.temperatureK, measurements: (r?.measurements ?? null) as FrameMeasurements | null, error: r?.error ?? null }
       }),
+      workers,
       loop: summary.loop ?? null,
       curie: summary.curie ?? null,
     }

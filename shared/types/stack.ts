@@ -28,8 +28,17 @@ export interface StackFrameResultDto {
   error: string | null
 }
 
+/** A worker process that measured frames of a run (its owner, or a worker that joined it). */
+export interface StackRunWorkerDto {
+  /** host:pid of the worker process. */
+  name: string
+  frames: number
+}
+
 export interface StackRunDetailDto extends StackRunDto {
   frames: StackFrameResultDto[]
+  /** Who measured the frames, most frames first (empty for a run that no worker has started). */
+  workers: StackRunWorkerDto[]
   loop: LoopSummary | null
   curie: CurieSummary | null
 }
