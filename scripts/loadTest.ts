@@ -4,7 +4,7 @@
  * process of its own, as deployed, so the load generator does not share its event loop) on a free 127.0.0.1 port with
  * its own s3rver, signs in 50 people and runs two phases of LOAD_SECONDS each (default 20 s) with autocannon on the
  * list, image and measurement endpoints:
- * 0. a warm-up of 5 s, not measured;
+ * 0. a warm-up, not measured: one stack upload, then 5 s of requests;
  * 1. the target: each person sends LOAD_USER_RATE requests per second (default 1), the next only after the last was
  *    answered, the people out of step with each other, while 5 stack uploads run (see `pacedUsers`). Then it checks
  *    every upload was stored completely;
@@ -149,28 +149,34 @@ const summarize = (result: autocannon.Result) => ({
   non2xx: result.non2xx,
 })
 
-// Five stack uploads while the load runs, their bodies made beforehand (the generator's event loop times the answers).
+// Stack uploads, their bodies made beforehand (the generator's event loop times the answers).
 const sweep = renderFieldSweep({ size: 128, seed: 3 })
-const uploadForms = Array.from({ length: 5 }, (_, k) => {
-  const tiff = encodeTiff(sweep.frames.map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + k)) })))
+function stackUpload(name: string, offset: number): FormData {
+  const tiff = encodeTiff(sweep.frames.map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + offset)) })))
   const form = new FormData()
-  form.append('files', new Blob([Buffer.from(tiff)]), `load-stack-${k}.tif`)
-  form.append('frames', new Blob(['frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')]), `load-stack-${k}.csv`)
+  form.append('files', new Blob([Buffer.from(tiff)]), `${name}.tif`)
+  form.append('frames', new Blob(['frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')]), `${name}.csv`)
   return form
-})
-// Warm-up, not measured: a server that has been running has compiled its routes and filled its connection pools.
-console.log(`[load] warming up for ${WARM_UP_SECONDS} s…`)
+}
+/** user ids 1, 6, 11, … are microscopists (role = 1 + id % 5 in the fill above), so they may upload. */
+async function upload(form: FormData, k: number) {
+  const session = sessions[5 * k]
+  const res = await fetch(`${url}/api/projects/1/images`, { method: 'POST', headers: { cookie: session.cookie, 'x-csrf-token': session.csrf }, body: form })
+  return { status: res.status, body: (await res.json()) as { id: number; frameCount: number }[] }
+}
+const uploadForms = Array.from({ length: 5 }, (_, k) => stackUpload(`load-stack-${k}`, k))
+
+// Warm-up, not measured: a server that has been running has compiled its routes, filled its connection pools, and
+// started its analysis thread and loaded the upload path's modules for an earlier upload (here: one stack, beforehand).
+console.log(`[load] warming up for ${WARM_UP_SECONDS} s, with one stack upload…`)
+const warmUpUpload = await upload(stackUpload('warm-up-stack', 100), 0)
+if (warmUpUpload.status !== 201) throw new Error(`the warm-up upload answered ${warmUpUpload.status}`)
 await backToBack(WARM_UP_SECONDS)
 failures.clear()
 // Phase 1, the target: 50 people at a person's pace while 5 stack uploads run.
 console.log(`[load] 50 users, ${USER_RATE} request(s) per second each, ${SECONDS} s, with 5 stack uploads…`)
 const paced = pacedUsers(SECONDS)
-const uploads = uploadForms.map(async (form, k) => {
-  // user ids 1, 6, 11, … are microscopists (role = 1 + id % 5 in the fill above), so they may upload.
-  const session = sessions[5 * k]
-  const res = await fetch(`${url}/api/projects/1/images`, { method: 'POST', headers: { cookie: session.cookie, 'x-csrf-token': session.csrf }, body: form })
-  return { status: res.status, body: (await res.json()) as { id: number; frameCount: number }[] }
-})
+const uploads = uploadForms.map(upload)
 const [result, uploaded] = await Promise.all([paced, Promise.all(uploads)])
 const pacedFailures = Object.fromEntries(failures)
 failures.clear()
