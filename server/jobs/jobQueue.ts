@@ -52,12 +52,31 @@ async function startBoss(databaseUrl: string): Promise<PgBoss> {
   instance.on('error', (err) => console.error('[jobs]', err.message))
   await instance.start()
   try {
-    await instance.createQueue(STACK_QUEUE)
-    await instance.createQueue(STACK_HELP_QUEUE)
+    for (const queue of [STACK_QUEUE, STACK_HELP_QUEUE]) await createQueueRacing(instance, queue)
   } catch (err) {
     // Started but unusable: stop its timers and pool before the next caller starts another.
     await instance.stop({ graceful: false, wait: true }).catch(() => {})
     throw err
   }
   return instance
+}
+
+/** PostgreSQL errors of two processes creating the same queue at once: deadlock, and the loser's duplicate key or table. */
+const CREATE_RACE_CODES = new Set(['40P01', '23505', '42P07'])
+
+/**
+ * pg-boss's createQueue is idempotent, but two processes creating a new queue at the same moment (workers started
+ * together on a fresh or just-upgraded database) can deadlock on its partition table, and PostgreSQL aborts one of
+ * them. The aborted one tries again, and then finds the queue made.
+ */
+async function createQueueRacing(instance: PgBoss, queue: string, attempts = 5): Promise<void> {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      await instance.createQueue(queue)
+      return
+    } catch (err) {
+      if (attempt >= attempts || !CREATE_RACE_CODES.has((err as { code?: string }).code ?? '')) throw err
+      await new Promise((resolve) => setTimeout(resolve, 50 + Math.random() * 200))
+    }
+  }
 }

@@ -2,7 +2,7 @@
  * Background stack processing through pg-boss and a real worker process, against the real PostgreSQL and s3rver:
  * a 41-frame field sweep survives a SIGKILL of its worker and finishes without duplicate frame results; its loop
  * equals the one-thread engine's (what the CLI computes); a known coercive field and a known Curie temperature come
- * back. Ground truth is constructed by the generators in scripts/sampleImages.ts.
+ * back; two idle worker processes share one run through the help queue. Ground truth is constructed by the generators in scripts/sampleImages.ts.
  */
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { spawn, type ChildProcess } from 'node:child_process'
@@ -22,7 +22,7 @@ const STEP_MT = 2
 /** The workers' scratch folder (the run's original is streamed there): the killed worker's copy is removed with it. */
 const scratchFolder = mkdtempSync(path.join(tmpdir(), 'remanence-stack-runs-'))
 
-function startWorker(): ChildProcess {
+function startWorker(threads = 2): ChildProcess {
   // node --import tsx (not the tsx CLI, which runs the script in a child process): SIGKILL must hit the worker itself.
   const child = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], {
     env: {
@@ -32,7 +32,7 @@ function startWorker(): ChildProcess {
       S3_BUCKET: inject('s3Bucket'),
       SMTP_URL: inject('smtpUrl'),
       STALE_RUN_SECONDS: '3',
-      WORKER_THREADS: '2',
+      WORKER_THREADS: String(threads),
       UPLOAD_TMP_DIR: scratchFolder,
     },
     stdio: ['ignore', 'pipe', 'pipe'],
@@ -144,6 +144,33 @@ describe('stack runs', () => {
     expect(Math.abs(detail.body.curie.tc - 390) / 390).toBeLessThan(0.02)
     expect(detail.body.curie.beta).toBeGreaterThan(0.2)
   }, 120_000)
+
+  it('When two worker processes are idle and one run is queued, then one takes it, the other joins through the help queue, and they split the frames', async () => {
+    for (const w of workers) if (w.exitCode === null) w.kill('SIGKILL')
+    // Seed 31, 512²: a one-thread worker needs a few seconds for the 41 frames, time enough for the second to join.
+    const sweep = renderFieldSweep({ size: 512, seed: 31, coerciveFieldMT: HC_MT, stepMT: STEP_MT })
+    const csv = 'frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')
+    const pair = [startWorker(1), startWorker(1)]
+    workers.push(...pair)
+    // Both ready (each prints its "waiting for stack runs" line) before the run is queued.
+    await Promise.all(pair.map((w) => new Promise<void>((resolve) => w.stdout!.on('data', (d: Buffer) => d.toString().includes('waiting for stack runs') && resolve()))))
+    const imageId = await uploadStack('shared-by-processes.tif', sweep.frames, csv)
+    const started = await session.agent.post(`/api/images/${imageId}/stack-runs`).set('x-csrf-token', session.csrf).send({ recipe: { background: 'flatten' } })
+    expect(started.status).toBe(202)
+    const runId = started.body.id as number
+    const done = await waitFor('the shared run to finish', async () => {
+      const run = await StackRun.findByPk(runId)
+      return run && ['done', 'done-with-errors', 'failed'].includes(run.status) ? run : null
+    })
+    expect(done.status).toBe('done')
+    expect(await StackFrameResult.count({ where: { runId } })).toBe(41)
+    const detail = await session.agent.get(`/api/stack-runs/${runId}`)
+    expect(detail.body.workers).toHaveLength(2)
+    expect(detail.body.workers.reduce((sum: number, w: { frames: number }) => sum + w.frames, 0)).toBe(41)
+    expect(detail.body.workers.map((w: { name: string }) => w.name)).toContain(done.worker)
+    // constructed: the generator's tanh loop crosses M = 0 at ±Hc
+    expect(Math.abs(detail.body.loop.coerciveField - HC_MT)).toBeLessThanOrEqual(STEP_MT)
+  }, 180_000)
 
   it('When a run reads "running" with a stale heartbeat, then it is queued again unless its own worker is still on it', async () => {
     // E.g. an attempt that ended while the database was down could not mark its run failed.
