@@ -83,8 +83,9 @@ export function createStackRunService(deps: { sequelize: Sequelize; jobs: JobQue
       StackFrameResult.findAll({ where: { runId }, order: [['frameIndex', 'ASC']] }),
       Frame.findAll({ where: { imageId: run.imageId }, order: [['index', 'ASC']] }),
       deps.sequelize.query<StackRunWorkerDto>(
-        'SELECT worker AS name, count(*)::int AS frames FROM stack_frame_claims WHERE run_id = :runId GROUP BY worker ORDER BY frames DESC, name',
-        { replacements: { runId }, type: QueryTypes.SELECT },
+        `SELECT worker AS name, count(*)::int AS frames, worker = :owner AS owner FROM stack_frame_claims WHERE run_id = :runId
+         GROUP BY worker ORDER BY frames DESC, name`,
+        { replacements: { runId, owner: run.worker ?? '' }, type: QueryTypes.SELECT },
       ),
     ])
     const summary = (run.summary ?? {}) as { loop?: LoopSummary | null; curie?: CurieSummary | null }

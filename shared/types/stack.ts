@@ -33,6 +33,8 @@ export interface StackRunWorkerDto {
   /** host:pid of the worker process. */
   name: string
   frames: number
+  /** True for the worker that took the run (it computed the threshold and writes the summary). */
+  owner: boolean
 }
 
 export interface StackRunDetailDto extends StackRunDto {

@@ -92,7 +92,7 @@ describe('a stack run shared by workers', () => {
     expect(rows.map((r) => (r.measurements as { magnetization: number }).magnetization)).toEqual(reference.frames.map((m) => m.magnetization))
     const detail = await session.agent.get(`/api/stack-runs/${runId}`)
     // The run says who measured its frames, most frames first.
-    expect(detail.body.workers).toEqual([...byWorker].map(([name, frames]) => ({ name, frames })).sort((a, b) => b.frames - a.frames || a.name.localeCompare(b.name)))
+    expect(detail.body.workers).toEqual([...byWorker].map(([name, frames]) => ({ name, frames, owner: name === 'owner:1' })).sort((a, b) => b.frames - a.frames || a.name.localeCompare(b.name)))
     expect(detail.body.loop.coerciveField).toBe(reference.loop!.coerciveField)
     expect(detail.body.loop.remanence).toBe(reference.loop!.remanence)
     expect(detail.body.loop.jumps).toEqual(JSON.parse(JSON.stringify(reference.loop!.jumps)))
