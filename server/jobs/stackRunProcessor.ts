@@ -82,6 +82,9 @@ const UNCLAIMED_FRAMES_SQL = `SELECT i FROM unnest(ARRAY[:indices]::int[]) AS i
 /** Condition on a claim `c`: its frame has no result yet. */
 const CLAIM_WITHOUT_RESULT_SQL = 'NOT EXISTS (SELECT 1 FROM stack_frame_results r WHERE r.run_id = c.run_id AND r.frame_index = c.frame_index)'
 
+/** Replacements of UNCLAIMED_FRAMES_SQL (an empty ARRAY[] has no type in PostgreSQL: no frame is asked as index −1). */
+const unclaimedReplacements = (runId: number, indices: number[]) => ({ runId, indices: indices.length ? indices : [-1] })
+
 /**
  * Claim the next frame of the run that nobody has claimed and that has no result, or null when none is left. Two
  * workers may pick the same frame at once: the primary key lets one insert win, and the other tries the next frame.
@@ -94,7 +97,7 @@ async function claimNextFrame(sequelize: Sequelize, runId: number, indices: numb
        SELECT :runId, i, :worker, now() FROM candidate
        ON CONFLICT DO NOTHING
        RETURNING frame_index`,
-      { replacements: { runId, indices: indices.length ? indices : [-1], worker: workerName } },
+      { replacements: { ...unclaimedReplacements(runId, indices), worker: workerName } },
     )) as [{ frame_index: number }[], unknown]
     if (rows.length) return rows[0].frame_index
     // Nothing inserted: either no candidate is left, or another worker took this one first.
@@ -106,7 +109,7 @@ async function claimNextFrame(sequelize: Sequelize, runId: number, indices: numb
 async function hasUnclaimedFrames(sequelize: Sequelize, runId: number, indices: number[]): Promise<boolean> {
   const [[row]] = (await sequelize.query(
     `SELECT EXISTS (${UNCLAIMED_FRAMES_SQL}) AS "left"`,
-    { replacements: { runId, indices: indices.length ? indices : [-1] } },
+    { replacements: unclaimedReplacements(runId, indices) },
   )) as [{ left: boolean }[], unknown]
   return row.left
 }

@@ -7,7 +7,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { createLabWithRoles, signIn, startTestApp } from './testApp'
-import { encodeTiff } from '../../shared/imageio/encodeTiff'
+import { uploadImage } from './analysisFixtures'
 import { renderFieldSweep } from '../../scripts/sampleImages'
 import { analyzeStack } from '../../shared/analysis/analyzeStack'
 import { normalizeRecipe } from '../../shared/analysis/recipe'
@@ -25,7 +25,6 @@ describe('a stack run shared by workers', () => {
   const pools: AnalysisPool[] = []
   // Seed 21: a fixed nucleation map; 41 frames of 512² keep the owner busy long enough for a helper to join.
   const sweep = renderFieldSweep({ size: 512, seed: 21, coerciveFieldMT: HC_MT, stepMT: STEP_MT })
-  const csv = 'frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')
   const recipe = normalizeRecipe({ background: 'flatten' })
 
   beforeAll(async () => {
@@ -42,13 +41,8 @@ describe('a stack run shared by workers', () => {
 
   /** Upload the sweep (a new name each time, so the duplicate check does not answer) and queue a run of it. */
   async function queueRun(name: string, frames = sweep.frames): Promise<number> {
-    const upload = await session.agent
-      .post(`/api/projects/${projectId}/images`)
-      .set('x-csrf-token', session.csrf)
-      .attach('files', Buffer.from(encodeTiff(frames, { pixelSizeNm: 100 })), name)
-      .attach('frames', Buffer.from(csv), `${name}.csv`)
-    expect(upload.status).toBe(201)
-    const started = await session.agent.post(`/api/images/${upload.body[0].id}/stack-runs`).set('x-csrf-token', session.csrf).send({ recipe })
+    const { imageId } = await uploadImage(session, projectId, { name, frames, pixelSizeNm: 100, fieldsMT: sweep.fieldsMT })
+    const started = await session.agent.post(`/api/images/${imageId}/stack-runs`).set('x-csrf-token', session.csrf).send({ recipe })
     expect(started.status).toBe(202)
     return started.body.id as number
   }
