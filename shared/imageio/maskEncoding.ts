@@ -24,41 +24,55 @@ export class MaskEncodingError extends Error {
   }
 }
 
-function pushVarint(out: number[], value: number): void {
+/**
+ * Output buffer of encodeMask, kept for masks up to 2048² (larger ones get one of their own). A run of r ≥ 1 pixels
+ * takes at most r bytes (a varint carries 7 bits a byte) and a plane has at most one empty run (its first), so a
+ * plane of n pixels needs at most n + 1 bytes.
+ */
+let encodeScratch = new Uint8Array(0)
+const MAX_KEPT_SCRATCH = HEADER_BYTES + 2 * (2048 * 2048 + 1)
+
+/** Write `value` as an unsigned LEB128 varint at `offset`; returns the offset after it. */
+function writeVarint(out: Uint8Array, offset: number, value: number): number {
   while (value >= 0x80) {
-    out.push((value & 0x7f) | 0x80)
+    out[offset++] = (value & 0x7f) | 0x80
     value = Math.floor(value / 128)
   }
-  out.push(value)
+  out[offset++] = value
+  return offset
 }
 
-function encodePlane(plane: Uint8Array, out: number[]): void {
+/** Runs of one plane, written from `offset`; returns the offset after them. */
+function encodePlane(plane: Uint8Array, out: Uint8Array, offset: number): number {
   let current = 0
-  let run = 0
+  let start = 0
   for (let i = 0; i < plane.length; i++) {
-    const v = plane[i] !== 0 ? 1 : 0
-    if (v === current) run++
-    else {
-      pushVarint(out, run)
-      current = v
-      run = 1
-    }
+    // Nonzero counts as 1: the sign bit of −byte.
+    const v = -plane[i] >>> 31
+    if (v === current) continue
+    offset = writeVarint(out, offset, i - start)
+    current = v
+    start = i
   }
-  pushVarint(out, run)
+  return writeVarint(out, offset, plane.length - start)
 }
 
 /** Encode a mask (values other than 0 count as 1). */
 export function encodeMask(mask: BinaryMask): Uint8Array {
   const { width, height, data, ignore } = mask
   if (data.length !== width * height) throw new MaskEncodingError(`mask data has ${data.length} values for ${width} × ${height}`)
-  const out: number[] = [...MAGIC, FORMAT_VERSION, 0, 0, 0, 0, 0, 0, 0, 0, ignore ? 1 : 0]
-  const view = new DataView(new ArrayBuffer(8))
-  view.setUint32(0, width, true)
-  view.setUint32(4, height, true)
-  for (let i = 0; i < 8; i++) out[5 + i] = view.getUint8(i)
-  encodePlane(data, out)
-  if (ignore) encodePlane(ignore, out)
-  return Uint8Array.from(out)
+  const bound = HEADER_BYTES + (ignore ? 2 : 1) * (data.length + 1)
+  if (encodeScratch.length < bound && bound <= MAX_KEPT_SCRATCH) encodeScratch = new Uint8Array(bound)
+  const out = encodeScratch.length >= bound ? encodeScratch : new Uint8Array(bound)
+  out.set(MAGIC, 0)
+  out[4] = FORMAT_VERSION
+  const view = new DataView(out.buffer, 0, HEADER_BYTES)
+  view.setUint32(5, width, true)
+  view.setUint32(9, height, true)
+  out[13] = ignore ? 1 : 0
+  let offset = encodePlane(data, out, HEADER_BYTES)
+  if (ignore) offset = encodePlane(ignore, out, offset)
+  return out.slice(0, offset)
 }
 
 function decodePlane(bytes: Uint8Array, offset: number, length: number): { plane: Uint8Array; offset: number } {

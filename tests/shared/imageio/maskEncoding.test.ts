@@ -42,6 +42,27 @@ describe('maskEncoding', () => {
     expect(Buffer.from(back.ignore!).equals(Buffer.from(mask.ignore!))).toBe(true)
   })
 
+  it('When a small mask is encoded, then the bytes are exactly those the format defines (stored masks stay readable)', () => {
+    // 3 × 2 mask 1 1 0 / 0 0 1 with an ignore plane 0 … 0 1: runs 0,2,3,1 and 5,1, written out by hand from the
+    // header comment of maskEncoding.ts ("RMSK", version 1, width and height u32 LE, flags 1).
+    const mask: BinaryMask = { width: 3, height: 2, data: Uint8Array.from([1, 1, 0, 0, 0, 1]), ignore: Uint8Array.from([0, 0, 0, 0, 0, 1]) }
+    expect(Array.from(encodeMask(mask))).toEqual([0x52, 0x4d, 0x53, 0x4b, 1, 3, 0, 0, 0, 2, 0, 0, 0, 1, 0, 2, 3, 1, 5, 1])
+    // A run of 300 needs a two-byte varint: 300 = 0b10_0101100 → 0xac 0x02.
+    const long = encodeMask({ width: 300, height: 1, data: new Uint8Array(300) })
+    expect(Array.from(long.subarray(14))).toEqual([0xac, 0x02])
+  })
+
+  it('When every pixel starts a run (checkerboard, starting with 1), then it encodes in its worst-case size and round-trips', () => {
+    const width = 513
+    const data = Uint8Array.from({ length: width * width }, (_, i) => ((i % width) + Math.floor(i / width) + 1) & 1)
+    const bytes = encodeMask({ width, height: width, data, ignore: data })
+    // Header + per plane one empty first run and one byte per pixel.
+    expect(bytes.length).toBe(14 + 2 * (width * width + 1))
+    const back = decodeMask(bytes)
+    expect(Buffer.from(back.data).equals(Buffer.from(data))).toBe(true)
+    expect(Buffer.from(back.ignore!).equals(Buffer.from(data))).toBe(true)
+  })
+
   it('When the mask is all one phase, then it takes a handful of bytes', () => {
     const bytes = encodeMask({ width: 1024, height: 1024, data: new Uint8Array(1024 * 1024).fill(1) })
     expect(bytes.length).toBeLessThan(24)
