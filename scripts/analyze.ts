@@ -23,7 +23,7 @@ import { existsSync, readFileSync, statSync } from 'node:fs'
 import { basename, dirname, extname, join } from 'node:path'
 import { analyzeFrame } from '../shared/analysis/analyzeFrame'
 import { analyzeMotion, motionRecipeDefaults, type MotionAnalysis } from '../shared/analysis/analyzeMotion'
-import type { StackAnalysis, StackMeta } from '../shared/analysis/analyzeStack'
+import type { StackMeta, StackResults } from '../shared/analysis/analyzeStack'
 import { buildAnalysisReport, formatAnalysisReport, reportNumber } from '../shared/analysis/analysisReport'
 import { ENGINE_VERSION } from '../shared/analysis/engineVersion'
 import { BACKGROUND_MODES, SEGMENTATION_METHODS, normalizeRecipe, type AnalysisRecipe } from '../shared/analysis/recipe'
@@ -168,10 +168,10 @@ function stackMeta(header: ImageHeader, options: CliOptions, table: ValidatedFra
 }
 
 /** A single image through the single-frame pipeline (its own threshold), a stack through the pool. */
-async function analyse(bytes: Uint8Array, file: string, header: ImageHeader, recipe: AnalysisRecipe, meta: StackMeta): Promise<StackAnalysis> {
+async function analyse(bytes: Uint8Array, file: string, header: ImageHeader, recipe: AnalysisRecipe, meta: StackMeta): Promise<StackResults> {
   if (header.frameCount === 1) {
-    const { measurements, mask } = analyzeFrame(await decodeFrame(bytes, file, 0), recipe, { pixelSizeNm: meta.pixelSizeNm })
-    return { threshold: null, frames: [measurements], masks: [mask], loop: null, curie: null }
+    const { measurements } = analyzeFrame(await decodeFrame(bytes, file, 0), recipe, { pixelSizeNm: meta.pixelSizeNm })
+    return { threshold: null, frames: [measurements], loop: null, curie: null }
   }
   const pool = createAnalysisPool()
   try {
@@ -210,7 +210,7 @@ function recipeLine(recipe: AnalysisRecipe): string {
   return parts.join(', ')
 }
 
-function printTable(file: string, header: ImageHeader, options: CliOptions, recipe: AnalysisRecipe, meta: StackMeta, analysis: StackAnalysis, csvPath: string | null): void {
+function printTable(file: string, header: ImageHeader, options: CliOptions, recipe: AnalysisRecipe, meta: StackMeta, analysis: StackResults, csvPath: string | null): void {
   const nm = meta.pixelSizeNm
   const out: string[] = []
   out.push(`${file}: ${header.frameCount} frame(s) of ${header.width} × ${header.height} px, ${header.bitDepth}-bit ${header.format.toUpperCase()}`)

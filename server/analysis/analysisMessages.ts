@@ -1,7 +1,7 @@
 /**
  * The messages between the analysis pool (server/analysis/analysisPool.ts) and its worker threads
- * (analysisWorker.ts). Everything here survives the structured clone; masks, histograms and rendered frames travel as
- * transferred buffers, file bytes as one SharedArrayBuffer per file (or, for a file on disk, its path: each worker
+ * (analysisWorker.ts). Everything here survives the structured clone; masks (encoded, from the measure pass),
+ * histograms and rendered frames travel as transferred buffers, file bytes as one SharedArrayBuffer per file (or, for a file on disk, its path: each worker
  * reads the ranges it needs).
  */
 import type { FrameAnalysis, FrameDistributions, FrameMeasurements } from '../../shared/analysis/analyzeFrame'
@@ -60,7 +60,8 @@ export interface AnalysisTaskResults {
   probe: ImageHeader
   rawRange: { min: number; max: number }
   histogram: Uint32Array
-  measure: { measurements: FrameMeasurements; mask: BinaryMask }
+  /** The mask in the stored encoding (shared/imageio/maskEncoding.ts): a few tens of kB where the bytes are 1 MB. */
+  measure: { measurements: FrameMeasurements; encodedMask: Uint8Array }
   contrast: number
   analyzeFrame: FrameAnalysis
   measureMask: { measurements: FrameMeasurements; distributions?: FrameDistributions }

@@ -82,8 +82,8 @@ export interface AnalysisPool {
   rawRangePass(file: SharedFile, indices: number[]): Promise<FrameOutcome<{ min: number; max: number }>[]>
   /** Pass 1: each frame's preprocessed histogram on the common range. */
   histogramPass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, range: { min: number; max: number }): Promise<FrameOutcome<Uint32Array>[]>
-  /** Pass 2: segment (with the stack-wide threshold when given) and measure each frame. */
-  measurePass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, context: { pixelSizeNm: number | null; threshold?: number }): Promise<FrameOutcome<{ measurements: FrameMeasurements; mask: BinaryMask }>[]>
+  /** Pass 2: segment (with the stack-wide threshold when given) and measure each frame; its mask comes back encoded. */
+  measurePass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, context: { pixelSizeNm: number | null; threshold?: number }): Promise<FrameOutcome<AnalysisTaskResults['measure']>[]>
   /** Pass 3: the signed domain contrast of each frame on one fixed mask. */
   contrastPass(file: SharedFile, indices: number[], recipe: AnalysisRecipe, mask: BinaryMask): Promise<FrameOutcome<number>[]>
   /** The whole single-frame pipeline on one frame (reference and anchor frames follow from the recipe). */

@@ -21,6 +21,7 @@ import { countAtLeastAsFar } from '../../shared/analysis/powerLawFit'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { BinaryMask, FloatImage, GrayImage } from '../../shared/analysis/types'
 import { decodeFrame, probeImage, type DecodeLimits, type ImageInput } from '../../shared/imageio/decodeImage'
+import { encodeMask } from '../../shared/imageio/maskEncoding'
 import { openFileByteSource } from '../storage/fileByteSource'
 import type { AnalysisTask, MaskMeasureContext, RenderedFrame, SerializedError, WorkerRequest, WorkerResponse } from './analysisMessages'
 import { renderFrame } from './frameRendering'
@@ -185,7 +186,10 @@ async function runTask(task: AnalysisTask, transfer: ArrayBuffer[]): Promise<unk
     case 'measure': {
       const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)
       const { measurements, mask } = frameMeasurePass(image, task.recipe, { pixelSizeNm: task.pixelSizeNm, threshold: task.threshold, ...context })
-      return { measurements, mask: ownMask(mask, transfer) }
+      // Encoded here, off the caller's thread; encodeMask returns a buffer of its own.
+      const encodedMask = encodeMask(mask)
+      transfer.push(encodedMask.buffer as ArrayBuffer)
+      return { measurements, encodedMask }
     }
     case 'contrast': {
       const { image, context } = await frameWithContext(task.fileId, task.index, task.recipe)

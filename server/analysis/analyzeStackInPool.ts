@@ -3,6 +3,8 @@
  * (shared/analysis/analyzeStack.ts), so the result is identical to the one-thread analysis of the decoded frames,
  * with frames placed by index whatever order the workers finish in. The raw range is one more pass here, because the
  * frames are decoded in the workers rather than held by the caller.
+ * Masks stay in their stored encoding (shared/imageio/maskEncoding.ts, tens of kB for a 1024² frame) and are decoded
+ * one at a time when a step needs them, so a long stack does not hold a megabyte per frame in this thread.
  */
 import {
   contrastMaskFrame,
@@ -11,14 +13,37 @@ import {
   safeHistogramRange,
   summarizeCurie,
   type LoopSummary,
-  type StackAnalysis,
+  type MaskAt,
   type StackMeta,
+  type StackResults,
 } from '../../shared/analysis/analyzeStack'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { BinaryMask } from '../../shared/analysis/types'
+import { decodeMask } from '../../shared/imageio/maskEncoding'
 import type { AnalysisRecipe } from '../../shared/analysis/recipe'
 import type { DecodeLimits } from '../../shared/imageio/decodeImage'
 import type { AnalysisPool, FrameOutcome } from './analysisPool'
+
+/** A stack analysed in the pool: the numbers, and each frame's mask in the stored encoding. */
+export interface PooledStackAnalysis extends StackResults {
+  encodedMasks: Uint8Array[]
+}
+
+/**
+ * The masks of a stack from their encodings, for the loop summary: each is decoded when asked for and only the last
+ * one is kept, which is all a walk through successive pairs needs.
+ */
+export function decodingMaskAt(encodedMasks: Uint8Array[]): MaskAt {
+  let lastIndex = -1
+  let last: BinaryMask | null = null
+  return (index) => {
+    if (last === null || index !== lastIndex) {
+      last = decodeMask(encodedMasks[index])
+      lastIndex = index
+    }
+    return last
+  }
+}
 
 /** Frames of a stack that could not be analysed; `failures` names each with its index (0-based) and reason. */
 export class StackFramesError extends Error {
@@ -41,8 +66,8 @@ export class StackFramesError extends Error {
  * summarizeLoop (shared/analysis/analyzeStack.ts) with the refits of the jump-size bootstrap spread over the pool's
  * threads: the same summary, in a fraction of the time it takes on one thread.
  */
-export async function summarizeLoopInPool(pool: AnalysisPool, measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): Promise<LoopSummary | null> {
-  const pending = prepareLoopSummary(measurements, masks, meta, minClusterArea)
+export async function summarizeLoopInPool(pool: AnalysisPool, measurements: FrameMeasurements[], maskAt: MaskAt, meta: StackMeta, minClusterArea: number): Promise<LoopSummary | null> {
+  const pending = prepareLoopSummary(measurements, maskAt, meta, minClusterArea)
   if (pending === null) return null
   const fit = pending.jumpSizeFit
   return pending.complete(fit === null ? 0 : await pool.countAtLeastAsFar(fit.sets, fit.reference))
@@ -69,7 +94,7 @@ export async function analyzeStackInPool(
   recipe: AnalysisRecipe,
   meta: StackMeta,
   limits?: Partial<DecodeLimits>,
-): Promise<StackAnalysis> {
+): Promise<PooledStackAnalysis> {
   const file = input instanceof Uint8Array ? pool.shareFile(input, fileName, limits) : pool.openFile(input.path, fileName, limits)
   try {
     // The header is read in a worker, which keeps the parsed file for decoding: this thread never parses it.
@@ -94,11 +119,11 @@ export async function analyzeStackInPool(
     }
     const results = values(fileName, await pool.measurePass(file, indices, recipe, { pixelSizeNm: meta.pixelSizeNm, threshold }))
     const measurements = results.map((r) => r.measurements)
-    const masks = results.map((r) => r.mask)
-    const loop = await summarizeLoopInPool(pool, measurements, masks, meta, recipe.minDomainArea)
+    const encodedMasks = results.map((r) => r.encodedMask)
+    const loop = await summarizeLoopInPool(pool, measurements, decodingMaskAt(encodedMasks), meta, recipe.minDomainArea)
     const maskFrame = contrastMaskFrame(measurements, meta)
-    const curie = maskFrame === null ? null : summarizeCurie(values(fileName, await pool.contrastPass(file, indices, recipe, masks[maskFrame])), maskFrame, meta)
-    return { threshold: threshold ?? null, frames: measurements, masks, loop, curie }
+    const curie = maskFrame === null ? null : summarizeCurie(values(fileName, await pool.contrastPass(file, indices, recipe, decodeMask(encodedMasks[maskFrame]))), maskFrame, meta)
+    return { threshold: threshold ?? null, frames: measurements, encodedMasks, loop, curie }
   } finally {
     pool.releaseFile(file)
   }

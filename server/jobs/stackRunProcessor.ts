@@ -17,12 +17,11 @@ import { Op, type Sequelize } from 'sequelize'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
 import { contrastMaskFrame, pooledThreshold, safeHistogramRange, summarizeCurie, type StackMeta } from '../../shared/analysis/analyzeStack'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
-import type { BinaryMask } from '../../shared/analysis/types'
 import { decodeMask, encodeMask } from '../../shared/imageio/maskEncoding'
 import { Frame, Image, StackFrameResult, StackRun } from '../models'
 import type { ObjectStore } from '../storage/objectStore'
 import type { AnalysisPool, SharedFile } from '../analysis/analysisPool'
-import { summarizeLoopInPool } from '../analysis/analyzeStackInPool'
+import { decodingMaskAt, summarizeLoopInPool } from '../analysis/analyzeStackInPool'
 import type { UploadTempFolder } from '../http/uploadTempFolder'
 
 export interface ProcessorDeps {
@@ -216,8 +215,8 @@ interface RunContext {
   threshold: number | undefined
   workerName: string
   owner: boolean
-  /** The owner keeps the masks it measured for the summary; a helper's are read back from the store. */
-  freshMasks: Map<number, BinaryMask> | null
+  /** The owner keeps the masks it measured (encoded) for the summary; a helper's are read back from the store. */
+  freshMasks: Map<number, Uint8Array> | null
 }
 
 /** Measure one claimed frame and store its mask and result. */
@@ -227,8 +226,9 @@ async function measureFrame(deps: ProcessorDeps, ctx: RunContext, index: number)
   let maskKey: string | null = null
   if (outcome.ok) {
     maskKey = `${image.objectKey.replace(/\/original[^/]*$/, '')}/runs/${run.id}/masks/${outcome.index}.rmsk`
-    await deps.store.put(maskKey, Buffer.from(encodeMask(outcome.value.mask)), 'application/octet-stream')
-    ctx.freshMasks?.set(outcome.index, outcome.value.mask)
+    const { encodedMask } = outcome.value
+    await deps.store.put(maskKey, Buffer.from(encodedMask.buffer, encodedMask.byteOffset, encodedMask.byteLength), 'application/octet-stream')
+    ctx.freshMasks?.set(outcome.index, encodedMask)
   }
   await StackFrameResult.upsert(
     { runId: run.id, frameIndex: outcome.index, measurements: outcome.ok ? (outcome.value.measurements as unknown as Record<string, unknown>) : null, maskKey, error: outcome.ok ? null : outcome.error.message },
@@ -302,26 +302,29 @@ async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorO
     const results = await StackFrameResult.findAll({ where: { runId: run.id }, order: [['frameIndex', 'ASC']] })
     const ok = results.filter((r) => r.measurements && r.maskKey)
     const measurements: FrameMeasurements[] = []
-    const masks: BinaryMask[] = []
+    // Encoded, as stored: decoded one at a time by the summary (a 1024² mask is 1 MB decoded, tens of kB encoded).
+    const masks: Uint8Array[] = []
+    let blank: Uint8Array | null = null
     const usable: StackMeta = { ...meta, frames: meta.frames.map((f) => ({ ...f })) }
     for (const f of frames) {
       const r = ok.find((x) => x.frameIndex === f.index)
       if (r) {
         measurements[f.index] = r.measurements as unknown as FrameMeasurements
-        masks[f.index] = freshMasks.get(f.index) ?? decodeMask(new Uint8Array(await store.get(r.maskKey!)))
+        masks[f.index] = freshMasks.get(f.index) ?? new Uint8Array(await store.get(r.maskKey!))
       } else {
         // A failed frame drops out of the loop and the Curie fit instead of breaking them.
         usable.frames[f.index] = { field: null, temperatureK: null }
         measurements[f.index] = { magnetization: 0, contrast: null } as FrameMeasurements
-        masks[f.index] = { width: image.width, height: image.height, data: new Uint8Array(image.width * image.height) }
+        blank ??= encodeMask({ width: image.width, height: image.height, data: new Uint8Array(image.width * image.height) })
+        masks[f.index] = blank
       }
     }
-    const loop = await summarizeLoopInPool(pool, measurements, masks, usable, recipe.minDomainArea)
+    const loop = await summarizeLoopInPool(pool, measurements, decodingMaskAt(masks), usable, recipe.minDomainArea)
     const maskFrame = contrastMaskFrame(measurements, usable)
     let curie = null
     if (maskFrame !== null) {
       const indices = all.filter((i) => usable.frames[i].temperatureK !== null)
-      const outcomes = await pool.contrastPass(file, indices, recipe, masks[maskFrame])
+      const outcomes = await pool.contrastPass(file, indices, recipe, decodeMask(masks[maskFrame]))
       const contrasts = all.map(() => NaN)
       for (const o of outcomes) if (o.ok) contrasts[o.index] = o.value
       curie = summarizeCurie(contrasts, maskFrame, usable)

@@ -14,7 +14,7 @@
  * Other files have no `motion` key.
  */
 import type { FrameMeasurements } from './analyzeFrame'
-import type { CurieSummary, LoopSummary, StackAnalysis, StackMeta } from './analyzeStack'
+import type { CurieSummary, LoopSummary, StackMeta, StackResults } from './analyzeStack'
 import type { MotionAnalysis } from './analyzeMotion'
 import { ENGINE_VERSION } from './engineVersion'
 import { DEFAULT_RECIPE, type AnalysisRecipe } from './recipe'
@@ -163,7 +163,7 @@ function motionJson(motion: MotionAnalysis): JsonObject {
  * @param context.file the name shown for the file (as given by the user; no directory is added).
  * @example JSON.stringify(buildAnalysisReport(analyzeStack(frames, recipe, meta), { file: 'KB24.tif', recipe, meta }))
  */
-export function buildAnalysisReport(analysis: StackAnalysis, context: { file: string; recipe: AnalysisRecipe; meta: StackMeta; motion?: MotionAnalysis }): AnalysisReport {
+export function buildAnalysisReport(analysis: StackResults, context: { file: string; recipe: AnalysisRecipe; meta: StackMeta; motion?: MotionAnalysis }): AnalysisReport {
   const { meta } = context
   const nm = meta.pixelSizeNm !== null && meta.pixelSizeNm > 0 ? meta.pixelSizeNm : null
   return {

@@ -115,6 +115,12 @@ export function pooledThreshold(histograms: Uint32Array[], range: { min: number;
 
 const isNumber = (v: number | null | undefined): v is number => typeof v === 'number' && Number.isFinite(v)
 
+/**
+ * The mask of a stack frame by index. The loop summary asks for them in frame order, each pair once, so a caller that
+ * keeps masks encoded (server/analysis/analyzeStackInPool.ts) needs only the last one decoded.
+ */
+export type MaskAt = (index: number) => BinaryMask
+
 /** A loop summary whose jump-size bootstrap is still to be counted (see {@link prepareLoopSummary}). */
 export interface PendingLoopSummary {
   /** The jump-size power-law fit awaiting its bootstrap count, or null when there are too few jumps to fit. */
@@ -127,7 +133,7 @@ export interface PendingLoopSummary {
  * {@link summarizeLoop} in two steps, for callers that count the jump-size bootstrap elsewhere (on several threads);
  * `complete(countAtLeastAsFar(jumpSizeFit.sets, jumpSizeFit.reference))` is exactly summarizeLoop's result.
  */
-export function prepareLoopSummary(measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): PendingLoopSummary | null {
+export function prepareLoopSummary(measurements: FrameMeasurements[], maskAt: MaskAt, meta: StackMeta, minClusterArea: number): PendingLoopSummary | null {
   const indices = meta.frames.map((f, i) => (isNumber(f.field) ? i : -1)).filter((i) => i >= 0)
   if (indices.length < 3) return null
   const loop = hysteresisLoop(indices.map((i) => ({ field: meta.frames[i].field as number, magnetization: measurements[i].magnetization })))
@@ -135,7 +141,7 @@ export function prepareLoopSummary(measurements: FrameMeasurements[], masks: Bin
   for (let k = 0; k + 1 < indices.length; k++) {
     const from = indices[k]
     const to = indices[k + 1]
-    const clusters = flippedClusters(masks[from], masks[to], Math.max(1, minClusterArea))
+    const clusters = flippedClusters(maskAt(from), maskAt(to), Math.max(1, minClusterArea))
     jumps.push({ fromFrame: from, toFrame: to, deltaM: Number((measurements[to].magnetization - measurements[from].magnetization).toPrecision(6)), clusterSizesPx: clusters.sizes, censoredClusters: clusters.censored })
   }
   const sizes = jumps.flatMap((j) => j.clusterSizesPx)
@@ -148,7 +154,7 @@ export function prepareLoopSummary(measurements: FrameMeasurements[], masks: Bin
 
 /** The loop and its jumps, when at least three frames carry a field. */
 export function summarizeLoop(measurements: FrameMeasurements[], masks: BinaryMask[], meta: StackMeta, minClusterArea: number): LoopSummary | null {
-  const pending = prepareLoopSummary(measurements, masks, meta, minClusterArea)
+  const pending = prepareLoopSummary(measurements, (index) => masks[index], meta, minClusterArea)
   if (pending === null) return null
   const fit = pending.jumpSizeFit
   return pending.complete(fit === null ? 0 : countAtLeastAsFar(fit.sets, fit.reference))
@@ -175,12 +181,16 @@ export function summarizeCurie(contrasts: number[], maskFrame: number, meta: Sta
   return { ...fitCriticalLaw(points, { zeroLevel: CONTRAST_ZERO_SHARE * largest }), maskFrame, contrasts }
 }
 
-export interface StackAnalysis {
+/** A stack's numbers: the stack-wide threshold, each frame's measurements, the loop and the Curie fit. */
+export interface StackResults {
   threshold: number | null
   frames: FrameMeasurements[]
-  masks: BinaryMask[]
   loop: LoopSummary | null
   curie: CurieSummary | null
+}
+
+export interface StackAnalysis extends StackResults {
+  masks: BinaryMask[]
 }
 
 /** The whole stack in this thread (tests, the browser, small stacks). */

@@ -9,19 +9,24 @@ import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'n
 import { tmpdir } from 'node:os'
 import path from 'node:path'
 import { createAnalysisPool, measureMaskInPool, type AnalysisPool } from '../../server/analysis/analysisPool'
-import { StackFramesError, analyzeStackInPool } from '../../server/analysis/analyzeStackInPool'
+import { StackFramesError, analyzeStackInPool, decodingMaskAt, type PooledStackAnalysis } from '../../server/analysis/analyzeStackInPool'
 import { measureMask, preprocessFrame } from '../../shared/analysis/analyzeFrame'
 import { analyzeStack, type StackAnalysis, type StackMeta } from '../../shared/analysis/analyzeStack'
 import { normalizeRecipe, type AnalysisRecipe } from '../../shared/analysis/recipe'
 import { decodeFrame, decodeImage, probeImage } from '../../shared/imageio/decodeImage'
+import { decodeMask, encodeMask } from '../../shared/imageio/maskEncoding'
 import { renderFrame } from '../../server/analysis/frameRendering'
 import { encodeTiff } from '../../shared/imageio/encodeTiff'
 import { renderFieldSweep, renderTemperatureRamp } from '../../scripts/sampleImages'
 import { breakPage } from './damagedTiff'
 
-/** The whole result as text, masks included, so "equal" means byte-identical. */
-function serialize(result: StackAnalysis): string {
-  return JSON.stringify(result, (_key, value: unknown) => (value instanceof Uint8Array ? Buffer.from(value).toString('base64') : value))
+/**
+ * The whole result as text, masks included (the pool's decoded from their encoding), so "equal" means byte-identical.
+ */
+function serialize(result: StackAnalysis | PooledStackAnalysis): string {
+  const { threshold, frames, loop, curie } = result
+  const masks = 'masks' in result ? result.masks : result.encodedMasks.map(decodeMask)
+  return JSON.stringify({ threshold, frames, masks, loop, curie }, (_key, value: unknown) => (value instanceof Uint8Array ? Buffer.from(value).toString('base64') : value))
 }
 
 const sweep = renderFieldSweep({ size: 128, seed: 77, maxFieldMT: 10, stepMT: 2 })
@@ -74,6 +79,13 @@ describe('analysis pool', () => {
     const pooled = await analyzeStackInPool(pool, bytes, 'ramp.tif', recipe, meta)
     expect(pooled.curie).not.toBeNull()
     expect(serialize(pooled)).toBe(serialize(analyzeStack(ramp.frames, recipe, meta)))
+  })
+
+  it('When encoded masks are asked for in any order, then decodingMaskAt gives back the mask of that frame', async () => {
+    const { frames } = await decodeImage(sweepBytes, 'sweep.tif')
+    const { masks } = analyzeStack(frames.slice(0, 4), normalizeRecipe({ stackThreshold: 'per-frame' }), { ...sweepMeta, frames: sweepMeta.frames.slice(0, 4) })
+    const maskAt = decodingMaskAt(masks.map(encodeMask))
+    for (const index of [0, 1, 1, 2, 0, 3, 3]) expect(Buffer.from(maskAt(index).data).equals(Buffer.from(masks[index].data))).toBe(true)
   })
 
   it('When frames are requested out of order, then every outcome carries the index it was asked for', async () => {
