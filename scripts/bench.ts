@@ -39,6 +39,7 @@ import { parseFramesCsv, validateFramesCsv } from '../shared/imageio/framesCsv'
 import { createAnalysisPool } from '../server/analysis/analysisPool'
 import { analyzeStackInPool } from '../server/analysis/analyzeStackInPool'
 import { filteredNoise, renderKerrFrame, renderLabyrinth, sweepFields } from './sampleImages'
+import { ANALYSIS_PROCESS_ENV } from './processes'
 
 const SIZE = 1024
 const STACK_FRAMES = 41
@@ -197,7 +198,8 @@ export function benchFieldSweep(): { frames: GrayImage[]; fieldsMT: number[] } {
 function runChild(args: string[]): Promise<unknown> {
   return new Promise((resolve, reject) => {
     const script = fileURLToPath(import.meta.url)
-    const child = spawn(process.execPath, [...process.execArgv, script, ...args], { stdio: ['ignore', 'pipe', 'inherit'] })
+    // The environment of the job worker, which runs stacks in production (see ANALYSIS_PROCESS_ENV).
+    const child = spawn(process.execPath, [...process.execArgv, script, ...args], { env: { ...process.env, ...ANALYSIS_PROCESS_ENV }, stdio: ['ignore', 'pipe', 'inherit'] })
     let out = ''
     child.stdout.on('data', (chunk: Buffer) => (out += chunk.toString()))
     child.on('error', reject)

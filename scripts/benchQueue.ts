@@ -41,7 +41,7 @@ import { createImageService } from '../server/services/imageService'
 import { createStackRunService } from '../server/services/stackRunService'
 import { encodeTiff } from '../shared/imageio/encodeTiff'
 import { benchFieldSweep } from './bench'
-import { portIsOpen } from './processes'
+import { ANALYSIS_PROCESS_ENV, portIsOpen } from './processes'
 import { startThrowawayServices } from './throwawayServices'
 
 const TARGET_SINGLE_RUN_MS = 10_000
@@ -177,7 +177,7 @@ function memoryOf(pid: number): { peakMb: number; rssMb: number } {
 
 /** A worker process, resolved once it says it waits for runs (its pool is up and it polls the queue). */
 function startWorker(env: NodeJS.ProcessEnv, threads: number | null): Promise<Worker> {
-  const workerEnv = { ...env }
+  const workerEnv: NodeJS.ProcessEnv = { ...env, ...ANALYSIS_PROCESS_ENV }
   if (threads === null) delete workerEnv.WORKER_THREADS
   else workerEnv.WORKER_THREADS = String(threads)
   const child = spawn(process.execPath, ['--import', 'tsx', 'server/worker.ts'], { cwd: root, env: workerEnv, stdio: ['ignore', 'pipe', 'pipe'] })

@@ -24,7 +24,7 @@ import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
 import { ensureSamples } from './ensureSamples'
 import { seedDemoLab } from './seed'
 import { startThrowawayServices } from './throwawayServices'
-import { freePort, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
+import { ANALYSIS_PROCESS_ENV, freePort, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
 
 const SIZE = 1024
 const DEFAULT_FRAMES = 100
@@ -151,7 +151,7 @@ try {
   const port = await freePort()
   const url = `http://127.0.0.1:${port}`
   // The child's output goes to stderr, so --json leaves one document on stdout.
-  server = spawn(process.execPath, [...WEB_SERVER_NODE_FLAGS, '--import', 'tsx', 'server/index.ts'], { env: { ...process.env, ...services.serverEnv, PORT: String(port), HOST: '127.0.0.1' }, stdio: ['ignore', 2, 2] })
+  server = spawn(process.execPath, [...WEB_SERVER_NODE_FLAGS, '--import', 'tsx', 'server/index.ts'], { env: { ...process.env, ...ANALYSIS_PROCESS_ENV, ...services.serverEnv, PORT: String(port), HOST: '127.0.0.1' }, stdio: ['ignore', 2, 2] })
   await waitForPort(port, 'web server')
   const pid = server.pid!
 

@@ -22,7 +22,7 @@ import { hashPassword } from '../server/auth/passwords'
 import { Frame, Image } from '../server/models'
 import { encodeTiff } from '../shared/imageio/encodeTiff'
 import { renderFieldSweep } from './sampleImages'
-import { freePort, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
+import { ANALYSIS_PROCESS_ENV, freePort, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
 import { startThrowawayServices } from './throwawayServices'
 
 const SECONDS = Number(process.env.LOAD_SECONDS ?? 20)
@@ -75,7 +75,7 @@ const port = await freePort()
 // 50 sign-ins within a minute are this test's set-up, not an attack: the sign-in limit is raised for it.
 const serverNodeArgs = (process.env.LOAD_SERVER_NODE_ARGS ?? '').split(' ').filter(Boolean)
 const server = spawn(process.execPath, [...WEB_SERVER_NODE_FLAGS, ...serverNodeArgs, '--import', 'tsx', 'server/index.ts'], {
-  env: { ...process.env, ...services.serverEnv, PORT: String(port), HOST: '127.0.0.1', LOGIN_RATE_MAX: '10000', LOGIN_RATE_WINDOW_MS: '60000' },
+  env: { ...process.env, ...ANALYSIS_PROCESS_ENV, ...services.serverEnv, PORT: String(port), HOST: '127.0.0.1', LOGIN_RATE_MAX: '10000', LOGIN_RATE_WINDOW_MS: '60000' },
   stdio: ['ignore', 'inherit', 'inherit'],
 })
 await waitForPort(port, 'web server', 60_000)

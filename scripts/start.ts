@@ -11,7 +11,7 @@ import { migrateToLatest } from '../server/migrator'
 import { DEMO_PASSWORD, DEMO_PEOPLE } from './demoScenario'
 import { ensureSamples } from './ensureSamples'
 import { seedDemoLab } from './seed'
-import { portIsOpen, run, spawnService, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
+import { ANALYSIS_PROCESS_ENV, portIsOpen, run, spawnService, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
 
 const root = fileURLToPath(new URL('..', import.meta.url))
 process.chdir(root)
@@ -67,7 +67,7 @@ try {
   console.log('[build] building the client')
   await run('node_modules/.bin/vite', ['build', '--logLevel', 'warn'])
   const config = loadConfig()
-  const server = spawnService('web', process.execPath, [...WEB_SERVER_NODE_FLAGS, '--import', 'tsx', 'server/index.ts'], env)
+  const server = spawnService('web', process.execPath, [...WEB_SERVER_NODE_FLAGS, '--import', 'tsx', 'server/index.ts'], { ...env, ...ANALYSIS_PROCESS_ENV })
   children.push(server)
   server.once('exit', (code) => {
     console.error(`[web] exited with ${code}`)
@@ -75,7 +75,7 @@ try {
   })
   await waitForPort(config.port, 'web server')
   // One job worker beside the web server; `npm run worker` starts more (here or on other machines).
-  const worker = spawnService('worker', tsx, ['server/worker.ts'], env)
+  const worker = spawnService('worker', tsx, ['server/worker.ts'], { ...env, ...ANALYSIS_PROCESS_ENV })
   children.push(worker)
   console.log(`\nRemanence is up: ${config.publicUrl}\n\nDemo sign-ins (password "${DEMO_PASSWORD}"):`)
   for (const p of DEMO_PEOPLE) console.log(`  ${p.role.padEnd(13)} ${p.email}  (${p.name})`)
