@@ -65,12 +65,12 @@ const files = new Map<number, SharedFile>()
 const MB = 1024 * 1024
 const FRAME_GARBAGE_LIMITS: Partial<Record<AnalysisTask['kind'], number>> = {
   render: 32 * MB,
-  histogram: 96 * MB,
-  measure: 96 * MB,
-  contrast: 96 * MB,
-  analyzeFrame: 96 * MB,
-  measureMask: 96 * MB,
-  motion: 96 * MB,
+  histogram: 80 * MB,
+  measure: 80 * MB,
+  contrast: 80 * MB,
+  analyzeFrame: 80 * MB,
+  measureMask: 80 * MB,
+  motion: 80 * MB,
 }
 let collectGarbage: (() => void) | null = null
 
@@ -148,6 +148,9 @@ async function renderedFrame(frame: GrayImage, transfer: ArrayBuffer[]): Promise
  * full collection after a frame task whenever the thread holds more than the task's limit keeps it near that. The
  * limit is a trade: at 32 MB (a collection after nearly every frame) a 41-frame stack took 25–30 % longer on two
  * threads than at 96 MB, for the same peak RSS within noise (without forced collections the peak was 60 MB higher).
+ * The limit counts the thread's live working buffers too: when local widths came to keep their per-row arrays for a
+ * few rows only (16 MB less per 1024² thread), 96 → 80 MB kept the same room for garbage (stack peak RSS 329–337 →
+ * 312–331 MB, same wall time).
  * Rendering keeps 32 MB: at 96 MB a 200 MB upload grew the web server by more. Worker threads take no --expose-gc
  * flag of their own, so the collector is exposed for this thread at run time, on first need.
  */

@@ -27,8 +27,11 @@
  * Order of work: after the feature transform, one sweep down the rows computes the unit vectors one row ahead of the
  * facing tests, selects the ridge pixels of the finished row and measures them at once, while the rows they read are
  * still in cache.
- * Buffers: per-pixel working arrays are kept for the last image size, and the ridge and width lists at their
- * largest, so the frames of a stack allocate only their results.
+ * Buffers: the distance and feature transform are kept for the last image size, the unit vectors and facing
+ * partners for two rows only (the facing tests of row y read rows y and y + 1, the ridge selection row y; a ray
+ * recomputes the unit vectors it needs, to the same float32 values), and the ridge and width lists at their largest,
+ * so the frames of a stack allocate only their results. Two rows instead of four full arrays spare 16 bytes per pixel
+ * of memory to fault in, fill and hold.
  */
 import { featureTransformBothPhases } from './distanceTransform'
 import type { BinaryMask } from './types'
@@ -36,6 +39,11 @@ import type { BinaryMask } from './types'
 export interface LocalWidthOptions {
   /** 'ray' (default, sub-pixel) or 'centre' (2·d − 1 on the pixel-centre ridge). */
   estimator?: 'ray' | 'centre'
+  /**
+   * Rows of unit vectors and partners kept (a power of two ≥ 2, default RING_ROWS). It changes only speed and
+   * memory, never a result: the tests compare 2 with the default.
+   */
+  ringRows?: number
 }
 
 export interface LocalWidthResult {
@@ -68,33 +76,57 @@ const RAY_STEP = 0.25
  */
 const RAY_HEAD_START = 0.75
 
-/** Facing-wall structure of both phases: EDT, unit vectors from the nearest wall, and each pixel's facing partner. */
+/**
+ * Facing-wall structure of both phases: EDT and feature transform of the image, and for the last ringRows rows
+ * (slot (y mod ringRows)·width + x) the unit vectors from the nearest wall and each pixel's facing partner.
+ */
 interface FacingPairs {
+  width: number
+  /** ringRows − 1 (ringRows is a power of two). */
+  ringMask: number
   distance: Float32Array
   nearest: Int32Array
   nx: Float32Array
   ny: Float32Array
   /** Most opposite cosine found so far per pixel; starts at FACING_COS and only decreases. */
   bestDot: Float32Array
-  /** Neighbour whose wall vector is most opposite (cosine < FACING_COS), or −1: the medial-axis candidates. */
+  /** Pixel index of the neighbour whose wall vector is most opposite (cosine < FACING_COS), or −1: the medial-axis candidates. */
   partner: Int32Array
+}
+
+/**
+ * Rows held by the ring arrays of FacingPairs. Two would do for the facing tests; with eight, a ray measured right
+ * after its ridge pixel was chosen (a few rows back at most, nearly always) finds the unit vectors around it still
+ * held, in cache, and only older ones are recomputed.
+ */
+const RING_ROWS = 8
+
+/** Ring slot of row y in the ring arrays of FacingPairs (add x for the pixel). */
+function slotOf(f: FacingPairs, y: number): number {
+  return (y & f.ringMask) * f.width
 }
 
 /** Phase values, down and up: also the index of per-phase lists. */
 const PHASES = [0, 1] as const
 
-/** Growable list of pixel indices, kept across frames. */
-class PixelList {
+/** Growable list of ridge pixels with their facing partners, kept across frames. */
+class RidgeList {
   items = new Int32Array(1024)
+  partners = new Int32Array(1024)
   length = 0
 
-  push(p: number): void {
+  push(p: number, q: number): void {
     if (this.length === this.items.length) {
-      const grown = new Int32Array(2 * this.items.length)
-      grown.set(this.items)
-      this.items = grown
+      const items = new Int32Array(2 * this.items.length)
+      const partners = new Int32Array(2 * this.partners.length)
+      items.set(this.items)
+      partners.set(this.partners)
+      this.items = items
+      this.partners = partners
     }
-    this.items[this.length++] = p
+    this.items[this.length] = p
+    this.partners[this.length] = q
+    this.length++
   }
 }
 
@@ -119,74 +151,95 @@ class WidthList {
   }
 }
 
-/** Per-pixel working arrays, kept for the last image size (frames of a stack share them; results are copied out). */
+/** Working arrays, kept for the last image size (frames of a stack share them; results are copied out). */
 interface Scratch extends FacingPairs {
   /** Ridge pixels chosen for the 'ray' estimator, per phase (index = phase value), in the order their runs end. */
-  chosen: [PixelList, PixelList]
+  chosen: [RidgeList, RidgeList]
   /** Widths per phase (index = phase value). */
   measured: [WidthList, WidthList]
 }
 
 let scratch: Scratch | null = null
 
-function scratchFor(n: number): Scratch {
-  if (scratch === null || scratch.distance.length < n) {
+function scratchFor(width: number, n: number, ringRows: number): Scratch {
+  const ring = ringRows * width
+  if (scratch === null || scratch.distance.length < n || scratch.nx.length < ring) {
     scratch = {
+      width,
+      ringMask: ringRows - 1,
       distance: new Float32Array(n),
       nearest: new Int32Array(n),
-      nx: new Float32Array(n),
-      ny: new Float32Array(n),
-      bestDot: new Float32Array(n),
-      partner: new Int32Array(n),
-      chosen: [new PixelList(), new PixelList()],
+      nx: new Float32Array(ring),
+      ny: new Float32Array(ring),
+      bestDot: new Float32Array(ring),
+      partner: new Int32Array(ring),
+      chosen: [new RidgeList(), new RidgeList()],
       measured: [new WidthList(), new WidthList()],
     }
   }
+  scratch.width = width
+  scratch.ringMask = ringRows - 1
   return scratch
 }
 
-/** Unit vectors n̂ = (p − nearest wall pixel) / d(p) of one row; (0, 0) where the wall phase is absent. */
-function unitVectorsRow(
-  width: number,
-  y: number,
-  distance: Float32Array,
-  nearest: Int32Array,
-  nx: Float32Array,
-  ny: Float32Array,
-): void {
+/** Unit vectors n̂ = (p − nearest wall pixel) / d(p) of row y into its ring slot; (0, 0) where the wall phase is absent. */
+function unitVectorsRow(f: FacingPairs, y: number): void {
+  const { width, distance, nearest, nx, ny } = f
   const row = y * width
+  const slot = slotOf(f, y)
   for (let x = 0; x < width; x++) {
     const i = row + x
-    const f = nearest[i]
-    if (f < 0) {
-      nx[i] = 0
-      ny[i] = 0
+    const fi = nearest[i]
+    if (fi < 0) {
+      nx[slot + x] = 0
+      ny[slot + x] = 0
       continue
     }
-    const fy = (f / width) | 0
+    const fy = (fi / width) | 0
     const d = distance[i]
-    nx[i] = (x - (f - fy * width)) / d
-    ny[i] = (y - fy) / d
+    nx[slot + x] = (x - (fi - fy * width)) / d
+    ny[slot + x] = (y - fy) / d
   }
 }
 
-/** Facing test of one neighbour pair of the same phase; each pair is visited once and may update both pixels. */
+/** The unit vector of pixel r at (x, y) as unitVectorsRow stores it (float32), in UNIT[0], UNIT[1]. */
+const UNIT = new Float32Array(2)
+
+function unitVectorAt(f: FacingPairs, r: number, x: number, y: number): void {
+  const fi = f.nearest[r]
+  if (fi < 0) {
+    UNIT[0] = 0
+    UNIT[1] = 0
+    return
+  }
+  const fy = (fi / f.width) | 0
+  const d = f.distance[r]
+  UNIT[0] = (x - (fi - fy * f.width)) / d
+  UNIT[1] = (y - fy) / d
+}
+
+/**
+ * Facing test of one neighbour pair of the same phase (pixels p and q, ring slots rp and rq); each pair is visited
+ * once and may update both pixels.
+ */
 function comparePair(
   p: number,
   q: number,
+  rp: number,
+  rq: number,
   dot: number,
   data: Uint8Array,
   bestDot: Float32Array,
   partner: Int32Array,
 ): void {
   if (data[q] !== data[p]) return
-  if (dot < bestDot[p]) {
-    bestDot[p] = dot
-    partner[p] = q
+  if (dot < bestDot[rp]) {
+    bestDot[rp] = dot
+    partner[rp] = q
   }
-  if (dot < bestDot[q]) {
-    bestDot[q] = dot
-    partner[q] = p
+  if (dot < bestDot[rq]) {
+    bestDot[rq] = dot
+    partner[rq] = p
   }
 }
 
@@ -196,34 +249,39 @@ function comparePair(
  * and skips the phase test and both updates. Inside the row the unit vectors of the right and lower neighbours are
  * carried from pixel to pixel, so each is loaded once.
  */
-function facingRow(f: FacingPairs, data: Uint8Array, width: number, y: number, hasNextRow: boolean): void {
-  const row = y * width
+function facingRow(f: FacingPairs, data: Uint8Array, y: number, hasNextRow: boolean): void {
+  const { width, nx, ny, bestDot, partner } = f
   if (!hasNextRow || width < 3) {
-    for (let x = 0; x < width; x++) facingPixel(f, data, width, row + x, x, hasNextRow)
+    for (let x = 0; x < width; x++) facingPixel(f, data, y, x, hasNextRow)
     return
   }
-  const { nx, ny, bestDot, partner } = f
-  facingPixel(f, data, width, row, 0, true)
-  let px = nx[row + 1]
-  let py = ny[row + 1]
-  let belowLeftX = nx[row + width]
-  let belowLeftY = ny[row + width]
-  let belowX = nx[row + width + 1]
-  let belowY = ny[row + width + 1]
-  for (let p = row + 1; p < row + width - 1; p++) {
+  const row = y * width
+  const slot = slotOf(f, y)
+  const next = slotOf(f, y + 1)
+  facingPixel(f, data, y, 0, true)
+  let px = nx[slot + 1]
+  let py = ny[slot + 1]
+  let belowLeftX = nx[next]
+  let belowLeftY = ny[next]
+  let belowX = nx[next + 1]
+  let belowY = ny[next + 1]
+  for (let x = 1; x < width - 1; x++) {
+    const p = row + x
     const below = p + width
-    const rightX = nx[p + 1]
-    const rightY = ny[p + 1]
-    const belowRightX = nx[below + 1]
-    const belowRightY = ny[below + 1]
+    const rp = slot + x
+    const rb = next + x
+    const rightX = nx[rp + 1]
+    const rightY = ny[rp + 1]
+    const belowRightX = nx[rb + 1]
+    const belowRightY = ny[rb + 1]
     let dot = px * rightX + py * rightY
-    if (dot < FACING_COS) comparePair(p, p + 1, dot, data, bestDot, partner)
+    if (dot < FACING_COS) comparePair(p, p + 1, rp, rp + 1, dot, data, bestDot, partner)
     dot = px * belowLeftX + py * belowLeftY
-    if (dot < FACING_COS) comparePair(p, below - 1, dot, data, bestDot, partner)
+    if (dot < FACING_COS) comparePair(p, below - 1, rp, rb - 1, dot, data, bestDot, partner)
     dot = px * belowX + py * belowY
-    if (dot < FACING_COS) comparePair(p, below, dot, data, bestDot, partner)
+    if (dot < FACING_COS) comparePair(p, below, rp, rb, dot, data, bestDot, partner)
     dot = px * belowRightX + py * belowRightY
-    if (dot < FACING_COS) comparePair(p, below + 1, dot, data, bestDot, partner)
+    if (dot < FACING_COS) comparePair(p, below + 1, rp, rb + 1, dot, data, bestDot, partner)
     px = rightX
     py = rightY
     belowLeftX = belowX
@@ -231,65 +289,81 @@ function facingRow(f: FacingPairs, data: Uint8Array, width: number, y: number, h
     belowX = belowRightX
     belowY = belowRightY
   }
-  facingPixel(f, data, width, row + width - 1, width - 1, true)
+  facingPixel(f, data, y, width - 1, true)
 }
 
-/** Facing tests of pixel p (column x) with its forward neighbours, for the ends of a row and the last row. */
-function facingPixel(f: FacingPairs, data: Uint8Array, width: number, p: number, x: number, hasNextRow: boolean): void {
-  const { nx, ny, bestDot, partner } = f
-  const px = nx[p]
-  const py = ny[p]
+/** Facing tests of pixel (x, y) with its forward neighbours, for the ends of a row and the last row. */
+function facingPixel(f: FacingPairs, data: Uint8Array, y: number, x: number, hasNextRow: boolean): void {
+  const { width, nx, ny, bestDot, partner } = f
+  const p = y * width + x
+  const rp = slotOf(f, y) + x
+  const px = nx[rp]
+  const py = ny[rp]
   const hasRight = x + 1 < width
   if (hasRight) {
-    const dot = px * nx[p + 1] + py * ny[p + 1]
-    if (dot < FACING_COS) comparePair(p, p + 1, dot, data, bestDot, partner)
+    const dot = px * nx[rp + 1] + py * ny[rp + 1]
+    if (dot < FACING_COS) comparePair(p, p + 1, rp, rp + 1, dot, data, bestDot, partner)
   }
   if (!hasNextRow) return
   const below = p + width
+  const rb = slotOf(f, y + 1) + x
   if (x > 0) {
-    const dot = px * nx[below - 1] + py * ny[below - 1]
-    if (dot < FACING_COS) comparePair(p, below - 1, dot, data, bestDot, partner)
+    const dot = px * nx[rb - 1] + py * ny[rb - 1]
+    if (dot < FACING_COS) comparePair(p, below - 1, rp, rb - 1, dot, data, bestDot, partner)
   }
-  const dot = px * nx[below] + py * ny[below]
-  if (dot < FACING_COS) comparePair(p, below, dot, data, bestDot, partner)
+  const dot = px * nx[rb] + py * ny[rb]
+  if (dot < FACING_COS) comparePair(p, below, rp, rb, dot, data, bestDot, partner)
   if (hasRight) {
-    const dot = px * nx[below + 1] + py * ny[below + 1]
-    if (dot < FACING_COS) comparePair(p, below + 1, dot, data, bestDot, partner)
+    const dot = px * nx[rb + 1] + py * ny[rb + 1]
+    if (dot < FACING_COS) comparePair(p, below + 1, rp, rb + 1, dot, data, bestDot, partner)
   }
 }
 
-/** Starts the facing structure: the feature transform of both phases and no partners yet. */
+/** Starts the facing structure: the feature transform of both phases, no partners yet, the unit vectors of row 0. */
 function startFacingPairs(mask: BinaryMask, buffers: Scratch): void {
   const { width, height, data } = mask
-  const n = width * height
   featureTransformBothPhases(data, width, height, { out: buffers.distance, nearestOut: buffers.nearest })
-  buffers.bestDot.fill(FACING_COS, 0, n)
-  buffers.partner.fill(-1, 0, n)
-  if (height > 0) unitVectorsRow(width, 0, buffers.distance, buffers.nearest, buffers.nx, buffers.ny)
+  buffers.bestDot.fill(FACING_COS, 0, (buffers.ringMask + 1) * width)
+  buffers.partner.fill(-1, 0, (buffers.ringMask + 1) * width)
+  if (height > 0) unitVectorsRow(buffers, 0)
 }
 
-/** Facing tests of row y, after the unit vectors of row y + 1 they need: the partners of row y are then final. */
+/**
+ * Facing tests of row y, after the unit vectors of row y + 1 they need (into the slot of row y + 1 − ringRows, whose
+ * partners start afresh): the partners of row y are then final.
+ */
 function facingPairsRow(mask: BinaryMask, f: FacingPairs, y: number): void {
   const { width, height, data } = mask
   const hasNextRow = y + 1 < height
-  if (hasNextRow) unitVectorsRow(width, y + 1, f.distance, f.nearest, f.nx, f.ny)
-  facingRow(f, data, width, y, hasNextRow)
+  if (hasNextRow) {
+    unitVectorsRow(f, y + 1)
+    const next = slotOf(f, y + 1)
+    f.bestDot.fill(FACING_COS, next, next + width)
+    f.partner.fill(-1, next, next + width)
+  }
+  facingRow(f, data, y, hasNextRow)
 }
 
-/** True when pixel p, its partner or either of their nearest walls is ignored. */
-function touchesIgnored(ignore: Uint8Array | undefined, f: FacingPairs, p: number): boolean {
+/** True when pixel p, its partner q or either of their nearest walls is ignored. */
+function touchesIgnored(ignore: Uint8Array | undefined, nearest: Int32Array, p: number, q: number): boolean {
   if (ignore === undefined) return false
-  const q = f.partner[p]
-  return ignore[p] !== 0 || ignore[q] !== 0 || ignore[f.nearest[p]] !== 0 || ignore[f.nearest[q]] !== 0
+  return ignore[p] !== 0 || ignore[q] !== 0 || ignore[nearest[p]] !== 0 || ignore[nearest[q]] !== 0
 }
 
-/** 'centre' estimator: w = 2·d − 1 at medial pixels that are not closer to their wall than their partner. */
-function centreWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, out: WidthList): void {
-  const n = mask.width * mask.height
-  for (let p = 0; p < n; p++) {
-    const q = f.partner[p]
-    if (q < 0 || mask.data[p] !== value || f.distance[p] < f.distance[q] || touchesIgnored(mask.ignore, f, p)) continue
-    out.push(p, 2 * f.distance[p] - 1)
+/**
+ * 'centre' estimator on row y (partners final): w = 2·d − 1 at medial pixels that are not closer to their wall than
+ * their partner, into out[1] for pixels of value 1 and out[0] for value 0.
+ */
+function centreWidthsRow(mask: BinaryMask, f: FacingPairs, y: number, out: [WidthList, WidthList]): void {
+  const { width, data, ignore } = mask
+  const row = y * width
+  const slot = slotOf(f, y)
+  for (let x = 0; x < width; x++) {
+    const p = row + x
+    const q = f.partner[slot + x]
+    const value = data[p]
+    if (q < 0 || (value !== 0 && value !== 1) || f.distance[p] < f.distance[q] || touchesIgnored(ignore, f.nearest, p, q)) continue
+    out[value].push(p, 2 * f.distance[p] - 1)
   }
 }
 
@@ -297,6 +371,8 @@ function centreWidths(mask: BinaryMask, value: 0 | 1, f: FacingPairs, out: Width
 interface ColumnRuns {
   best: Int32Array
   offset: Float64Array
+  /** Facing partner of each best pixel. */
+  partner: Int32Array
 }
 
 /**
@@ -312,26 +388,29 @@ function selectRidgeRow(
   f: FacingPairs,
   y: number,
   columns: ColumnRuns,
-  chosen: [PixelList, PixelList],
+  chosen: [RidgeList, RidgeList],
 ): void {
   const { width, ignore, data } = mask
-  const { distance, nx, ny, partner } = f
+  const { distance, nearest, nx, ny, partner } = f
   const colBest = columns.best
   const colBestOffset = columns.offset
+  const colBestPartner = columns.partner
   const row = y * width
+  const slot = slotOf(f, y)
   let rowBest = -1
   let rowBestOffset = 0
+  let rowBestPartner = -1
   for (let x = 0; x < width; x++) {
     const p = row + x
-    const q = partner[p]
+    const q = partner[slot + x]
     if (q < 0) {
       // Not a candidate (most pixels): both open runs end here.
       if (rowBest >= 0) {
-        endRun(chosen, data, rowBest)
+        endRun(chosen, data, rowBest, rowBestPartner)
         rowBest = -1
       }
       if (colBest[x] >= 0) {
-        endRun(chosen, data, colBest[x])
+        endRun(chosen, data, colBest[x], colBestPartner[x])
         colBest[x] = -1
       }
       continue
@@ -339,31 +418,35 @@ function selectRidgeRow(
     const value = phaseOf(data, p)
     let axis = 0
     let offset = 0
-    if (!touchesIgnored(ignore, f, p)) {
+    if (!touchesIgnored(ignore, nearest, p, q)) {
       const qy = (q / width) | 0
       const qx = q - qy * width
-      offset = Math.abs(0.5 * (distance[q] + (qx - x) * nx[p] + (qy - y) * ny[p] - distance[p]))
-      axis = Math.abs(nx[p]) >= Math.abs(ny[p]) ? 1 : 2
+      const npx = nx[slot + x]
+      const npy = ny[slot + x]
+      offset = Math.abs(0.5 * (distance[q] + (qx - x) * npx + (qy - y) * npy - distance[p]))
+      axis = Math.abs(npx) >= Math.abs(npy) ? 1 : 2
     }
     if (rowBest >= 0 && (axis !== 1 || phaseOf(data, rowBest) !== value)) {
-      endRun(chosen, data, rowBest)
+      endRun(chosen, data, rowBest, rowBestPartner)
       rowBest = -1
     }
     if (axis === 1 && (rowBest < 0 || offset < rowBestOffset)) {
       rowBest = p
       rowBestOffset = offset
+      rowBestPartner = q
     }
     const c = colBest[x]
     if (c >= 0 && (axis !== 2 || phaseOf(data, c) !== value)) {
-      endRun(chosen, data, c)
+      endRun(chosen, data, c, colBestPartner[x])
       colBest[x] = -1
     }
     if (axis === 2 && (colBest[x] < 0 || offset < colBestOffset[x])) {
       colBest[x] = p
       colBestOffset[x] = offset
+      colBestPartner[x] = q
     }
   }
-  if (rowBest >= 0) endRun(chosen, data, rowBest)
+  if (rowBest >= 0) endRun(chosen, data, rowBest, rowBestPartner)
 }
 
 /** Phase of pixel p, 1 (up, any nonzero byte) or 0, without a branch: the sign bit of −byte. */
@@ -371,15 +454,15 @@ function phaseOf(data: Uint8Array, p: number): number {
   return -data[p] >>> 31
 }
 
-/** A run ends: its best pixel joins the chosen pixels of its phase. */
-function endRun(chosen: [PixelList, PixelList], data: Uint8Array, best: number): void {
-  chosen[phaseOf(data, best)].push(best)
+/** A run ends: its best pixel (with its partner) joins the chosen pixels of its phase. */
+function endRun(chosen: [RidgeList, RidgeList], data: Uint8Array, best: number, partner: number): void {
+  chosen[phaseOf(data, best)].push(best, partner)
 }
 
 /** Ends the column runs still open after the last row. */
-function endColumnRuns(data: Uint8Array, columns: ColumnRuns, chosen: [PixelList, PixelList]): void {
+function endColumnRuns(data: Uint8Array, columns: ColumnRuns, chosen: [RidgeList, RidgeList]): void {
   for (let x = 0; x < columns.best.length; x++) {
-    if (columns.best[x] >= 0) endRun(chosen, data, columns.best[x])
+    if (columns.best[x] >= 0) endRun(chosen, data, columns.best[x], columns.partner[x])
   }
 }
 
@@ -533,32 +616,56 @@ function bilinearAt(
 }
 
 /**
- * 'ray' estimator at a chosen pixel p of phase `value`, or −1 when a ray is dropped. Wall normal: mean of the 3×3
- * same-phase unit vectors, each flipped onto n̂_p's side of the ridge (one vector is quantised to the direction of a
- * single pixel; the mean roughly halves the angular error, and a residual error δ only lengthens the chord by
- * 1/cos δ).
+ * 'ray' estimator at a chosen pixel p of phase `value` with facing partner q, or −1 when a ray is dropped. Wall
+ * normal: mean of the 3×3 same-phase unit vectors, each flipped onto n̂_p's side of the ridge (one vector is
+ * quantised to the direction of a single pixel; the mean roughly halves the angular error, and a residual error δ
+ * only lengthens the chord by 1/cos δ).
  */
-function rayWidth(mask: BinaryMask, value: 0 | 1, f: FacingPairs, p: number): number {
+function rayWidth(mask: BinaryMask, value: 0 | 1, f: FacingPairs, p: number, q: number, heldFrom: number): number {
   const { width, height, data } = mask
   const { distance, nx, ny } = f
   const y = (p / width) | 0
   const x = p - y * width
-  const npx = nx[p]
-  const npy = ny[p]
+  const yFrom = y > 0 ? y - 1 : 0
+  // The ring holds rows heldFrom … (the current row + 1 ≥ y + 1); older neighbourhoods are recomputed.
+  const held = yFrom >= heldFrom
+  let npx: number
+  let npy: number
+  if (held) {
+    npx = nx[slotOf(f, y) + x]
+    npy = ny[slotOf(f, y) + x]
+  } else {
+    unitVectorAt(f, p, x, y)
+    npx = UNIT[0]
+    npy = UNIT[1]
+  }
   let ux = 0
   let uy = 0
   const xFrom = x > 0 ? x - 1 : 0
   const xTo = x < width - 1 ? x + 1 : width - 1
   const yTo = y < height - 1 ? y + 1 : height - 1
-  for (let yy = y > 0 ? y - 1 : 0; yy <= yTo; yy++) {
-    for (let r = yy * width + xFrom; r <= yy * width + xTo; r++) {
+  for (let yy = yFrom; yy <= yTo; yy++) {
+    const row = yy * width
+    const slot = slotOf(f, yy)
+    for (let xx = xFrom; xx <= xTo; xx++) {
+      const r = row + xx
       if (data[r] !== value) continue
+      let rx: number
+      let ry: number
+      if (held) {
+        rx = nx[slot + xx]
+        ry = ny[slot + xx]
+      } else {
+        unitVectorAt(f, r, xx, yy)
+        rx = UNIT[0]
+        ry = UNIT[1]
+      }
       // The sign of n̂_r·n̂_p (+1 for ±0) as a quotient, not a branch (which mispredicts here). Adding 1e-300 only
       // turns ±0 positive: a nonzero dot of two of these float32 unit vectors is above 1e-25.
-      const dot = nx[r] * npx + ny[r] * npy + 1e-300
+      const dot = rx * npx + ry * npy + 1e-300
       const sign = dot / Math.abs(dot)
-      ux += sign * nx[r]
-      uy += sign * ny[r]
+      ux += sign * rx
+      uy += sign * ry
     }
   }
   const norm = hypot(ux, uy)
@@ -566,7 +673,7 @@ function rayWidth(mask: BinaryMask, value: 0 | 1, f: FacingPairs, p: number): nu
   uy /= norm
   const dp = distance[p]
   const start = Math.max(0, dp - RAY_HEAD_START)
-  const limit = 2 * (dp + distance[f.partner[p]]) + 4
+  const limit = 2 * (dp + distance[q]) + 4
   // u points away from p's own wall, towards the facing one; every wall point is at least d(p) − √2/2 away.
   const toFacingWall = crossingDistance(mask, value, x, y, ux, uy, start, limit)
   if (toFacingWall < 0) return -1
@@ -589,18 +696,23 @@ function hypot(a: number, b: number): number {
   return Math.sqrt(scaledA * scaledA + scaledB * scaledB) * max
 }
 
-/** Measures the pixels chosen since the last call (`measuredUpTo` per phase) with the 'ray' estimator. */
+/**
+ * Measures the pixels chosen since the last call (`measuredUpTo` per phase) with the 'ray' estimator, after the
+ * facing tests of row y (the ring then holds the unit vectors of rows y + 2 − ringRows … y + 1).
+ */
 function measureChosen(
   mask: BinaryMask,
   f: FacingPairs,
-  chosen: [PixelList, PixelList],
+  y: number,
+  chosen: [RidgeList, RidgeList],
   measuredUpTo: [number, number],
   out: [WidthList, WidthList],
 ): void {
+  const heldFrom = y + 1 - f.ringMask
   for (const value of PHASES) {
-    const { items, length } = chosen[value]
+    const { items, partners, length } = chosen[value]
     for (let k = measuredUpTo[value]; k < length; k++) {
-      const w = rayWidth(mask, value, f, items[k])
+      const w = rayWidth(mask, value, f, items[k], partners[k], heldFrom)
       if (w >= 0) out[value].push(items[k], w)
     }
     measuredUpTo[value] = length
@@ -668,27 +780,30 @@ export function localDomainWidths(mask: BinaryMask, options: LocalWidthOptions =
   const { width, height } = mask
   // Degenerate input needs no branch: with one phase absent the feature transform has no nearest wall (−1), so no
   // pixel gets a facing partner and the statistics below come out empty/null; an empty mask has no pixel at all.
-  const f = scratchFor(width * height)
+  const ringRows = options.ringRows ?? RING_ROWS
+  if (!(ringRows >= 2 && (ringRows & (ringRows - 1)) === 0)) throw new RangeError(`ringRows must be a power of two ≥ 2, got ${ringRows}`)
+  const f = scratchFor(width, width * height, ringRows)
   const [down, up] = f.measured
   down.length = 0
   up.length = 0
   startFacingPairs(mask, f)
   if (options.estimator === 'centre') {
-    for (let y = 0; y < height; y++) facingPairsRow(mask, f, y)
-    centreWidths(mask, 1, f, up)
-    centreWidths(mask, 0, f, down)
+    for (let y = 0; y < height; y++) {
+      facingPairsRow(mask, f, y)
+      centreWidthsRow(mask, f, y, f.measured)
+    }
   } else {
     f.chosen[0].length = 0
     f.chosen[1].length = 0
     const measuredUpTo: [number, number] = [0, 0]
-    const columns: ColumnRuns = { best: new Int32Array(width).fill(-1), offset: new Float64Array(width) }
+    const columns: ColumnRuns = { best: new Int32Array(width).fill(-1), offset: new Float64Array(width), partner: new Int32Array(width) }
     for (let y = 0; y < height; y++) {
       facingPairsRow(mask, f, y)
       selectRidgeRow(mask, f, y, columns, f.chosen)
-      measureChosen(mask, f, f.chosen, measuredUpTo, f.measured)
+      measureChosen(mask, f, y, f.chosen, measuredUpTo, f.measured)
     }
     endColumnRuns(mask.data, columns, f.chosen)
-    measureChosen(mask, f, f.chosen, measuredUpTo, f.measured)
+    measureChosen(mask, f, height - 1, f.chosen, measuredUpTo, f.measured)
   }
   const upCount = up.length
   const total = upCount + down.length

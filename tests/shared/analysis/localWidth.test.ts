@@ -121,4 +121,21 @@ describe('localDomainWidths', () => {
       expect(result.downMeanPx).toBeNull()
     }
   })
+
+  it.each(['ray', 'centre'] as const)('When only two rows of unit vectors are kept (%s), then every width is bit-identical to the default', (estimator) => {
+    // An implementation check, not a physics one: with two rows every ray recomputes the unit vectors around its
+    // pixel, with the default nearly none does; both must give the same float32 widths, pixels and order.
+    const oblique = stripes(160, 17, 31, 0.4)
+    const noisy: BinaryMask = { ...stripes(120, 12, 64), ignore: Uint8Array.from({ length: 120 * 120 }, (_, i) => (i % 37 === 0 ? 1 : 0)) }
+    let state = 7
+    const speckle: BinaryMask = { width: 70, height: 50, data: Uint8Array.from({ length: 3500 }, () => ((state = (state * 1103515245 + 12345) >>> 0) >>> 30) & 1) }
+    for (const mask of [oblique, noisy, speckle]) {
+      const held = localDomainWidths(mask, { estimator })
+      const recomputed = localDomainWidths(mask, { estimator, ringRows: 2 })
+      expect(held.widthsPx.length).toBeGreaterThan(0)
+      expect(Buffer.from(recomputed.widthsPx.buffer).equals(Buffer.from(held.widthsPx.buffer))).toBe(true)
+      expect(Array.from(recomputed.ridgeIndex!)).toEqual(Array.from(held.ridgeIndex!))
+    }
+    expect(() => localDomainWidths(oblique, { ringRows: 3 })).toThrow(RangeError)
+  })
 })
