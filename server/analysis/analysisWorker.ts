@@ -65,12 +65,12 @@ const files = new Map<number, SharedFile>()
 const MB = 1024 * 1024
 const FRAME_GARBAGE_LIMITS: Partial<Record<AnalysisTask['kind'], number>> = {
   render: 32 * MB,
-  histogram: 80 * MB,
-  measure: 80 * MB,
-  contrast: 80 * MB,
-  analyzeFrame: 80 * MB,
-  measureMask: 80 * MB,
-  motion: 80 * MB,
+  histogram: 64 * MB,
+  measure: 64 * MB,
+  contrast: 64 * MB,
+  analyzeFrame: 64 * MB,
+  measureMask: 64 * MB,
+  motion: 64 * MB,
 }
 let collectGarbage: (() => void) | null = null
 
@@ -148,9 +148,10 @@ async function renderedFrame(frame: GrayImage, transfer: ArrayBuffer[]): Promise
  * full collection after a frame task whenever the thread holds more than the task's limit keeps it near that. The
  * limit is a trade: at 32 MB (a collection after nearly every frame) a 41-frame stack took 25–30 % longer on two
  * threads than at 96 MB, for the same peak RSS within noise (without forced collections the peak was 60 MB higher).
- * The limit counts the thread's live working buffers too: when local widths came to keep their per-row arrays for a
- * few rows only (16 MB less per 1024² thread), 96 → 80 MB kept the same room for garbage (stack peak RSS 329–337 →
- * 312–331 MB, same wall time).
+ * The limit counts the thread's live working buffers too (about 40 MB for 1024² frames since local widths keep their
+ * per-pixel vectors for eight rows only, the feature transform needs no column buffer and the orientation no float
+ * copy of the mask; it was 24 MB more). With them, 64 MB leaves as much room for garbage as 96 MB did before: stack
+ * peak RSS 322–340 MB at 80 → 296–314 MB at 64, analysis time the same (6.0 s).
  * Rendering keeps 32 MB: at 96 MB a 200 MB upload grew the web server by more. Worker threads take no --expose-gc
  * flag of their own, so the collector is exposed for this thread at run time, on first need.
  */

@@ -16,8 +16,9 @@
  * "the other phase" (distance 0). Optional anisotropic sampling {x: ax, y: ay} (distances then in those units).
  * Output: Float32Array of Euclidean distances in px (or sampling units). If the other phase is absent, every pixel of
  * the phase gets +Infinity (no distance to a virtual border is invented): callers must handle it.
- * Buffers: row scratch is cached per width and the column scratch for the last size, so a stack of equal frames
- * allocates only the outputs (or nothing, with `out` / `nearestOut`). Not re-entrant within one thread (it never
+ * Buffers: row scratch is cached per width and the column scratch for the last size (both phases at once need none:
+ * the column pass is kept in the feature output), so a stack of equal frames allocates only the outputs (or nothing,
+ * with `out` / `nearestOut`). Not re-entrant within one thread (it never
  * needs to be: the transform is synchronous).
  */
 
@@ -446,8 +447,9 @@ export function featureTransformBothPhases(
   const distance = options.out !== undefined && options.out.length >= n ? options.out : new Float32Array(n)
   const nearest = options.nearestOut !== undefined && options.nearestOut.length >= n ? options.nearestOut : new Int32Array(n)
   if (n === 0) return { distance, nearest }
-  if (columnScratch.length < n) columnScratch = new Int32Array(n)
-  const above = columnScratch
+  // The other-phase row above each pixel is kept in `nearest` itself: the upward sweep reads a row's values just
+  // before its envelope overwrites them with the result, and never reads a finished row again.
+  const above = nearest
   const scratch = bothPhasesScratch(width)
   scratch.lastRow.fill(NONE_ABOVE)
   for (let y = 0; y < height; y++) otherRowsAbove(phase, width, y, scratch.lastRow, above)

@@ -201,14 +201,21 @@ export function stripeOrientation(
   if (width < 3 || height < 3) return none
   const sigmaD = options.sigmaDerivative ?? 1
   const aspect = options.pixelAspect !== undefined && options.pixelAspect > 0 ? options.pixelAspect : 1
-  if (smoothScratch.length < width * height) smoothScratch = new Float32Array(width * height)
-  const smooth = gaussianBlur(image, sigmaD, undefined, smoothScratch).data
+  const n = width * height
+  if (smoothScratch.length < n) smoothScratch = new Float32Array(n)
+  // Integer input (a mask) is copied into the scratch and smoothed in place there, rather than through a float copy
+  // of gaussianBlur's own: one frame-sized buffer less in every analysis thread.
+  let source: GrayImage | FloatImage = image
+  if (!(image.data instanceof Float32Array)) {
+    smoothScratch.set(image.data.subarray(0, n))
+    source = { width, height, data: smoothScratch.subarray(0, n) }
+  }
+  const smooth = gaussianBlur(source, sigmaD, undefined, smoothScratch).data
   // Global sums inside a frame of ceil(3σ_d) px, clamped so that at least the central pixel stays.
   const frame = Math.min(Math.ceil(3 * sigmaD), (width - 1) >> 1, (height - 1) >> 1)
   const result: StripeOrientationResult = { ...none }
   let sums: TensorSums
   if (options.maps === true) {
-    const n = width * height
     const { jxx, jyy, jxy } = tensorMaps(smooth, width, height, aspect)
     sums = sumsOfMaps(jxx, jyy, jxy, width, height, frame)
     const sigmaI = options.sigmaIntegration ?? 4
