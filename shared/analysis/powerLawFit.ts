@@ -5,8 +5,10 @@
  * Method: A. Clauset, C. R. Shalizi, M. E. J. Newman (2009), "Power-law distributions in empirical data", SIAM Rev.
  * 51(4):661–703, DOI 10.1137/070710111 [R for the formulas, METHODS §5.4]:
  * - continuous MLE α̂ = 1 + n·[Σ ln(x_i/x_min)]⁻¹, standard error (α̂ − 1)/√n;
- * - discrete, exact: maximise ℓ(α) = −n·ln ζ(α, x_min) − α·Σ ln x_i (golden-section search; ℓ is concave in α because
- *   ln ζ is a log-partition function); standard error 1/√(n·∂²ln ζ/∂α²) by a central difference;
+ * - discrete, exact: maximise ℓ(α) = −n·ln ζ(α, x_min) − α·Σ ln x_i (ℓ is concave in α because ln ζ is a
+ *   log-partition function): Newton's method on ℓ′ = 0 with ∂ζ/∂α and ∂²ζ/∂α² from the same Euler–Maclaurin sum,
+ *   kept inside a bracket that it bisects whenever a step leaves it; standard error 1/√(n·∂²ln ζ/∂α²) by a central
+ *   difference;
  * - discrete, approximate: α̂ ≈ 1 + n·[Σ ln(x_i/(x_min − ½))]⁻¹, adequate for x_min ≳ 6 [M for the "≳ 6"];
  * - x_min: every distinct value except the largest is a candidate (those leaving a tail of ≥ MIN_SCAN_TAIL = 50 values,
  *   when there are any: tiny tails fit themselves); the one with the smallest KS distance
@@ -18,7 +20,9 @@
  *   ±0.01; p ≤ 0.1 rules the power law out [M for the numeric rules].
  * Hurwitz ζ(s, q) = Σ_{k≥0} (q + k)^(−s) is computed here by the Euler–Maclaurin formula (direct sum until q + k ≥ 15,
  * integral and half-term, 8 Bernoulli corrections; relative error < 1e-13 for 1 < s ≤ 10), checked against
- * ζ(2) = π²/6, ζ(4) = π⁴/90, ζ(3) = 1.2020569031595942 and the shift ζ(s, q) = ζ(s, q + 1) + q^(−s).
+ * ζ(2) = π²/6, ζ(4) = π⁴/90, ζ(3) = 1.2020569031595942 and the shift ζ(s, q) = ζ(s, q + 1) + q^(−s); its derivatives
+ * in s term by term (each term is c·e^(g(s)), so its derivatives are g′·term and (g′² + g″)·term), checked against
+ * ζ′(2) = −0.9375482543158437 [from memory] and central differences.
  * Discrete synthetic draws use the exact inverse CCDF over a 10⁴-value table, then CSN's continuous-rounding
  * approximation beyond it (their Appendix D [from memory]).
  * Checked against: METHODS checks #37 (x = [1,2,4,8] → α̂ = 1.961797, SE 0.480898), #38 and #39 (synthetic sets).
@@ -98,6 +102,67 @@ export function hurwitzZeta(s: number, q: number): number {
   return sum
 }
 
+/** ζ(s, q) with its first and second derivatives in s (see {@link hurwitzZetaWithDerivatives}). */
+export interface ZetaWithDerivatives {
+  value: number
+  first: number
+  second: number
+}
+
+/**
+ * ζ(s, q), ∂ζ/∂s and ∂²ζ/∂s² by the Euler–Maclaurin sum of {@link hurwitzZeta}, differentiated term by term: a direct
+ * term (q + k)^(−s) has log-derivative −ln(q + k); the integral a^(1−s)/(s − 1), −ln a − 1/(s − 1); the half term,
+ * −ln a; the j-th Bernoulli term, Σ_{m<2j−1} 1/(s + m) − ln a. For s > 1, q > 0 (Infinity otherwise, as hurwitzZeta).
+ */
+export function hurwitzZetaWithDerivatives(s: number, q: number): ZetaWithDerivatives {
+  if (!(s > 1) || !(q > 0)) return { value: Infinity, first: -Infinity, second: Infinity }
+  let value = 0
+  let first = 0
+  let second = 0
+  let a = q
+  while (a < 15) {
+    const term = Math.pow(a, -s)
+    const log = Math.log(a)
+    value += term
+    first -= log * term
+    second += log * log * term
+    a += 1
+  }
+  const logA = Math.log(a)
+  const aPowMinusS = Math.pow(a, -s)
+  // Integral term a^(1−s)/(s − 1): g′ = −ln a − 1/(s − 1), g″ = 1/(s − 1)².
+  const integral = (a * aPowMinusS) / (s - 1)
+  const integralSlope = -logA - 1 / (s - 1)
+  value += integral
+  first += integralSlope * integral
+  second += (integralSlope * integralSlope + 1 / ((s - 1) * (s - 1))) * integral
+  // Half term ½a^(−s): g′ = −ln a, g″ = 0.
+  const half = 0.5 * aPowMinusS
+  value += half
+  first -= logA * half
+  second += logA * logA * half
+  let rising = s
+  let power = aPowMinusS / a
+  // Σ 1/(s + m) and Σ 1/(s + m)² over the factors of the rising factorial s(s + 1)…(s + 2j).
+  let inverseSum = 1 / s
+  let inverseSquareSum = 1 / (s * s)
+  const inverseSquare = 1 / (a * a)
+  for (let j = 0; j < BERNOULLI_OVER_FACTORIAL.length; j++) {
+    const term = BERNOULLI_OVER_FACTORIAL[j] * rising * power
+    const slope = inverseSum - logA
+    value += term
+    first += slope * term
+    second += (slope * slope - inverseSquareSum) * term
+    const m1 = s + 2 * j + 1
+    const m2 = s + 2 * j + 2
+    rising *= m1 * m2
+    power *= inverseSquare
+    inverseSum += 1 / m1 + 1 / m2
+    inverseSquareSum += 1 / (m1 * m1) + 1 / (m2 * m2)
+  }
+  return { value, first, second }
+}
+
 /** Sorted positive data with cached logarithms and suffix sums of the logarithms. */
 interface PreparedData {
   x: Float64Array
@@ -121,42 +186,35 @@ function prepare(values: ArrayLike<number>): PreparedData {
 
 type Method = PowerLawFit['method']
 
-/** Maximise a concave function on [lo, hi] by golden-section search. */
-function goldenMaximum(f: (a: number) => number, lo: number, hi: number, tolerance: number): number {
-  const ratio = (Math.sqrt(5) - 1) / 2
-  let a = lo
-  let b = hi
-  let c = b - ratio * (b - a)
-  let d = a + ratio * (b - a)
-  let fc = f(c)
-  let fd = f(d)
-  while (b - a > tolerance) {
-    if (fc >= fd) {
-      b = d
-      d = c
-      fd = fc
-      c = b - ratio * (b - a)
-      fc = f(c)
-    } else {
-      a = c
-      c = d
-      fc = fd
-      d = a + ratio * (b - a)
-      fd = f(d)
-    }
-  }
-  return (a + b) / 2
-}
-
-/** Exact discrete MLE for a tail with mean log `meanLog` above `xMin`, starting near the approximation `guess`. */
+/**
+ * Exact discrete MLE for a tail with mean log `meanLog` above `xMin`, starting from the approximation `guess`: the root
+ * of ℓ′(α) = −ζ′/ζ − meanLog, which falls from +∞ at α → 1 (ζ diverges) and crosses zero once (ℓ is concave). Newton
+ * steps use ℓ″ = −(ζ″/ζ − (ζ′/ζ)²); a step that leaves the bracket [lo, hi] (ℓ′(lo) > 0 > ℓ′(hi)) is replaced by the
+ * bracket's midpoint, so the iteration cannot diverge. Converges in a handful of steps to |Δα| < 1e-13·α.
+ */
 function exactDiscreteAlpha(xMin: number, meanLog: number, guess: number): number {
-  const objective = (alpha: number) => -Math.log(hurwitzZeta(alpha, xMin)) - alpha * meanLog
+  const slopeAndCurvature = (alpha: number): [number, number] => {
+    const z = hurwitzZetaWithDerivatives(alpha, xMin)
+    const ratio = z.first / z.value
+    return [-ratio - meanLog, -(z.second / z.value - ratio * ratio)]
+  }
+  let lo = 1 + 1e-9
   let hi = Math.max(guess * 2, guess + 2)
-  let alpha = goldenMaximum(objective, 1 + 1e-9, hi, 1e-10)
-  // A maximum at the upper edge means the bracket was too small: widen it (rare, steep tails only).
-  for (let i = 0; i < 6 && hi - alpha < 1e-8; i++) {
+  // Widen the bracket until ℓ′ < 0 at its top (steep tails only).
+  for (let i = 0; i < 60 && slopeAndCurvature(hi)[0] > 0; i++) {
+    lo = hi
     hi *= 2
-    alpha = goldenMaximum(objective, 1 + 1e-9, hi, 1e-10)
+  }
+  let alpha = Math.min(Math.max(guess, lo), hi)
+  for (let i = 0; i < 200; i++) {
+    const [slope, curvature] = slopeAndCurvature(alpha)
+    if (slope === 0) return alpha
+    if (slope > 0) lo = alpha
+    else hi = alpha
+    let next = curvature < 0 ? alpha - slope / curvature : NaN
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi)
+    if (Math.abs(next - alpha) <= 1e-13 * alpha || hi - lo <= 1e-13 * alpha) return next
+    alpha = next
   }
   return alpha
 }

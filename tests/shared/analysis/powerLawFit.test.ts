@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { fitPowerLaw, hurwitzZeta, MIN_SCAN_TAIL } from '@shared/analysis/powerLawFit'
+import { fitPowerLaw, hurwitzZeta, hurwitzZetaWithDerivatives, MIN_SCAN_TAIL } from '@shared/analysis/powerLawFit'
 import { createRandom } from '@shared/analysis/seededRandom'
 
 /** Continuous power law above xMin by the inverse CDF x = xMin·(1 − u)^(−1/(α−1)) (METHODS §5.4 [D]). */
@@ -36,6 +36,32 @@ describe('hurwitzZeta', () => {
     // scipy.special.zeta(2.5, 3.7) = 0.11475814214741724, zeta(1.3, 0.4) = 6.674437097089328 [D].
     expect(hurwitzZeta(2.5, 3.7) / 0.11475814214741724 - 1).toBeLessThan(1e-13)
     expect(Math.abs(hurwitzZeta(1.3, 0.4) / 6.674437097089328 - 1)).toBeLessThan(1e-13)
+  })
+
+  it('When ζ is differentiated in s, then ζ′(2) is the known constant and the shift identity holds for both derivatives', () => {
+    // ζ′(2) = (π²/6)(γ + ln 2π − 12 ln A), Euler's γ = 0.5772156649015329 and the Glaisher–Kinkelin constant
+    // A = 1.2824271291006226 [from memory]; it is −0.93754825431584… .
+    const gamma = 0.5772156649015329
+    const glaisher = 1.2824271291006226
+    const zetaPrime2 = (Math.PI ** 2 / 6) * (gamma + Math.log(2 * Math.PI) - 12 * Math.log(glaisher))
+    expect(hurwitzZetaWithDerivatives(2, 1).first).toBeCloseTo(zetaPrime2, 13)
+    expect(hurwitzZetaWithDerivatives(2, 1).first).toBeCloseTo(-0.9375482543158437, 13)
+    for (const [s, q] of [[2.5, 3], [1.3, 0.4], [6, 14.5], [1.05, 9]]) {
+      // [D]: ζ(s, q) − ζ(s, q + 1) = q^(−s), so its s-derivatives are −ln q·q^(−s) and (ln q)²·q^(−s) exactly.
+      const here = hurwitzZetaWithDerivatives(s, q)
+      const next = hurwitzZetaWithDerivatives(s, q + 1)
+      expect(here.value).toBe(hurwitzZeta(s, q))
+      expect((here.first - next.first) / (-Math.log(q) * q ** -s)).toBeCloseTo(1, 11)
+      expect((here.second - next.second) / (Math.log(q) ** 2 * q ** -s)).toBeCloseTo(1, 11)
+      // And both agree with fourth-order central differences of ζ itself (step 1e-3; near the pole at s = 1 those are
+      // only good to a few digits) [D].
+      const h = 1e-3
+      const f = (x: number) => hurwitzZeta(x, q)
+      const slope = (-f(s + 2 * h) + 8 * f(s + h) - 8 * f(s - h) + f(s - 2 * h)) / (12 * h)
+      const curvature = (-f(s + 2 * h) + 16 * f(s + h) - 30 * f(s) + 16 * f(s - h) - f(s - 2 * h)) / (12 * h * h)
+      expect(here.first / slope).toBeCloseTo(1, 5)
+      expect(here.second / curvature).toBeCloseTo(1, 4)
+    }
   })
 
   it('When s ≤ 1 or q ≤ 0, then the divergent series returns Infinity', () => {
@@ -105,6 +131,20 @@ describe('fitPowerLaw, discrete', () => {
     const fit2 = fitPowerLaw(x, { discrete: true, xMin: 2, bootstrap: 0 })
     expect(fit2.alpha).toBeCloseTo(1.8352230397, 7)
     expect(fit2.alphaStdErr).toBeCloseTo(0.298380887, 6)
+  })
+
+  it('When the exact discrete MLE returns α̂, then the likelihood equation ζ′(α̂, x_min)/ζ(α̂, x_min) = −mean ln x holds', () => {
+    // The first-order condition of ℓ(α) = −n ln ζ(α, x_min) − α Σ ln x [D]; a search on ℓ itself only finds the flat
+    // maximum to about 1e-8 in α, which leaves a residual near 1e-8·ℓ″.
+    const random = createRandom(12)
+    const sizes = discretePowerLaw(400, 2.2, 3, random).concat([1, 2, 2])
+    for (const xMin of [1, 3, 7]) {
+      const fit = fitPowerLaw(sizes, { discrete: true, xMin, bootstrap: 0 })
+      const tail = sizes.filter((v) => v >= xMin)
+      const meanLog = tail.reduce((sum, v) => sum + Math.log(v), 0) / tail.length
+      const z = hurwitzZetaWithDerivatives(fit.alpha as number, xMin)
+      expect(Math.abs(z.first / z.value + meanLog)).toBeLessThan(1e-12)
+    }
   })
 
   it('When integer sizes follow an exact discrete power law from x_min = 1, then the exact MLE recovers α', () => {
