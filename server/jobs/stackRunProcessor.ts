@@ -279,12 +279,12 @@ async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorO
     `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId AND ${CLAIM_WITHOUT_RESULT_SQL}`,
     { replacements: { runId: run.id } },
   )
+  // Asked for first, so that a helper fetches the original while this worker does and while the threshold pass runs.
+  await deps.requestHelp?.(run.id).catch((err: Error) => console.error(`[worker] run ${run.id}: help not requested: ${err.message}`))
   const original = await fetchOriginal(deps, image.objectKey)
   const file = pool.openFile(original.path, image.name)
   const all = frames.map((f) => f.index)
   try {
-    // Asked for now, so that a helper fetches the original while the threshold pass runs.
-    await deps.requestHelp?.(run.id).catch((err: Error) => console.error(`[worker] run ${run.id}: help not requested: ${err.message}`))
     let threshold = run.threshold ?? undefined
     if (threshold === undefined && needsStackThreshold(recipe)) {
       const ranges = (await pool.rawRangePass(file, all)).filter((o) => o.ok).map((o) => (o as { value: { min: number; max: number } }).value)

@@ -147,8 +147,11 @@ describe('stack runs', () => {
 
   it('When two worker processes are idle and one run is queued, then one takes it, the other joins through the help queue, and they split the frames', async () => {
     for (const w of workers) if (w.exitCode === null) w.kill('SIGKILL')
-    // Seed 31, 512²: a one-thread worker needs a few seconds for the 41 frames, time enough for the second to join.
-    const sweep = renderFieldSweep({ size: 512, seed: 31, coerciveFieldMT: HC_MT, stepMT: STEP_MT })
+    // Seed 31, 512², 1 mT steps (81 frames): a one-thread worker needs several seconds for them, time enough for the
+    // second to join even on a busy machine (it fetches the original and starts its cold analysis thread meanwhile;
+    // with 41 frames a loaded CI machine once let the owner finish alone).
+    const stepMT = 1
+    const sweep = renderFieldSweep({ size: 512, seed: 31, coerciveFieldMT: HC_MT, stepMT })
     const csv = 'frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')
     const pair = [startWorker(1), startWorker(1)]
     workers.push(...pair)
@@ -163,13 +166,13 @@ describe('stack runs', () => {
       return run && ['done', 'done-with-errors', 'failed'].includes(run.status) ? run : null
     })
     expect(done.status).toBe('done')
-    expect(await StackFrameResult.count({ where: { runId } })).toBe(41)
+    expect(await StackFrameResult.count({ where: { runId } })).toBe(sweep.frames.length)
     const detail = await session.agent.get(`/api/stack-runs/${runId}`)
     expect(detail.body.workers).toHaveLength(2)
-    expect(detail.body.workers.reduce((sum: number, w: { frames: number }) => sum + w.frames, 0)).toBe(41)
+    expect(detail.body.workers.reduce((sum: number, w: { frames: number }) => sum + w.frames, 0)).toBe(sweep.frames.length)
     expect(detail.body.workers.filter((w: { owner: boolean }) => w.owner).map((w: { name: string }) => w.name)).toEqual([done.worker])
     // constructed: the generator's tanh loop crosses M = 0 at ±Hc
-    expect(Math.abs(detail.body.loop.coerciveField - HC_MT)).toBeLessThanOrEqual(STEP_MT)
+    expect(Math.abs(detail.body.loop.coerciveField - HC_MT)).toBeLessThanOrEqual(stepMT)
   }, 180_000)
 
   it('When a run reads "running" with a stale heartbeat, then it is queued again unless its own worker is still on it', async () => {
