@@ -27,11 +27,12 @@
  * Order of work: after the feature transform, one sweep down the rows computes the unit vectors one row ahead of the
  * facing tests, selects the ridge pixels of the finished row and measures them at once, while the rows they read are
  * still in cache.
- * Buffers: the distance and feature transform are kept for the last image size, the unit vectors and facing
- * partners for two rows only (the facing tests of row y read rows y and y + 1, the ridge selection row y; a ray
- * recomputes the unit vectors it needs, to the same float32 values), and the ridge and width lists at their largest,
- * so the frames of a stack allocate only their results. Two rows instead of four full arrays spare 16 bytes per pixel
- * of memory to fault in, fill and hold.
+ * Buffers: the distance and feature transform are kept for the last image size; the unit vectors and facing
+ * partners for the last RING_ROWS (8) rows only (the facing tests of row y read rows y and y + 1, the ridge selection
+ * row y, and a ray measured right after its pixel was chosen reads the rows around it; an older neighbourhood is
+ * recomputed from the feature transform, to the same float32 values); the ridge and width lists at their largest. So
+ * the frames of a stack allocate only their results, and eight rows instead of four full arrays spare 16 bytes per
+ * pixel of memory to fault in, fill and hold.
  */
 import { featureTransformBothPhases } from './distanceTransform'
 import type { BinaryMask } from './types'
