@@ -1,15 +1,17 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
-import { createMemoryHistory } from 'vue-router'
+import { createMemoryHistory, type Router } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
 import type { LabRole } from '@shared/auth/permissions'
 import type { ImageDetailDto } from '@shared/types/image'
 import { createAppRouter } from '@/router'
 import ImageDetailView from '@/views/ImageDetailView.vue'
-import { jsonResponse, stubFetch } from '../fakeApi'
+import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { getButton } from '../domQueries'
 
 let pinia: Pinia
+let router: Router
 const ME = 7
 
 function detail(uploadedById: number | null): ImageDetailDto {
@@ -41,13 +43,13 @@ function detail(uploadedById: number | null): ImageDetailDto {
 /** The page's header only: the viewer, tables and panels below it are stubbed, as they play no part in deleting. */
 const STUBBED = ['ImageCanvas', 'ImageCanvasToolbar', 'ImageCompareControls', 'ImageDisplayControls', 'ImageFramePlayer', 'ImageFrameTable', 'ImageMetadataPanel', 'ImageStackRunsPanel', 'ImageCalibrationDialog']
 
-async function mountDetail(role: LabRole, uploadedById: number | null) {
+async function mountDetail(role: LabRole, uploadedById: number | null, image: () => Response = () => jsonResponse(200, detail(uploadedById))) {
   stubFetch({
     'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
     'GET /api/projects': () => jsonResponse(200, [{ id: 2, labId: 1, name: 'Garnet film', description: '', createdAt: '2026-01-01T00:00:00.000Z', sampleCount: 0, imageCount: 1 }]),
-    'GET /api/images/9': () => jsonResponse(200, detail(uploadedById)),
+    'GET /api/images/9': image,
   })
-  const router = createAppRouter(createMemoryHistory())
+  router = createAppRouter(createMemoryHistory())
   await router.push('/images/9')
   const wrapper = mount(ImageDetailView, {
     props: { imageId: 9 },
@@ -81,5 +83,16 @@ describe('ImageDetailView delete button', () => {
     const wrapper = await mountDetail(role, uploadedById)
     expect(wrapper.find('h1').text()).toBe('anneal-300.tif')
     expect(hasDeleteButton(wrapper)).toBe(shown)
+  })
+})
+
+describe('ImageDetailView for a missing image', () => {
+  it('When the image does not exist (or is in another lab), then the page says so and its button leads to the image list', async () => {
+    const wrapper = await mountDetail('pi', null, () => errorResponse(404, 'not-found', 'image not found'))
+    expect(wrapper.text()).toContain('Image not found')
+    expect(hasDeleteButton(wrapper)).toBe(false)
+    await getButton(wrapper, 'All images').trigger('click')
+    // The image list is a lazily loaded route: wait for its module as a browser would.
+    await vi.waitFor(() => expect(router.currentRoute.value.name).toBe('images'), { timeout: 5000 })
   })
 })
