@@ -111,6 +111,14 @@ describe('WorkspaceResultsPanel', () => {
     expect(rowText(wrapper, 'Contrast')).toBe('Contrast —')
   })
 
+  it('When the pattern has no preferred direction (order S below 0.2, as for a labyrinth), then no angle is given as the orientation', () => {
+    // METHODS check #21: an isotropic band-limited labyrinth gives S ≈ 0.11, "< 0.2".
+    const maze = measurements({ orientationDeg: -77.7, orderParameter: 0.015 })
+    const wrapper = mountPanel({ analysis: null, previewMeasurements: maze, status: 'ready' })
+
+    expect(rowText(wrapper, 'Stripe orientation')).toBe('Stripe orientation no preferred direction order S = 0.015 < 0.2; mean angle -77.7° is noise')
+  })
+
   it('When a preview exists next to a saved analysis, then the preview numbers are shown and marked as not saved', () => {
     const wrapper = mountPanel({ analysis: analysis(), previewMeasurements: measurements({ domainCount: 7, upDomainCount: 3, downDomainCount: 4 }), status: 'ready' })
     expect(wrapper.text()).toContain('Preview · not saved')
