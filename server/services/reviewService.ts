@@ -11,7 +11,7 @@
  */
 import { Op, type Sequelize, type Transaction } from 'sequelize'
 import type { AnalysisStatus } from '../../shared/types/lab'
-import { ANALYSIS_STATUS_LABELS, REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueItemDto } from '../../shared/types/review'
+import { ANALYSIS_STATUS_LABELS, REVIEW_QUEUE_LIMIT, REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueItemDto } from '../../shared/types/review'
 import { PERMISSIONS, type LabAction, type LabRole } from '../../shared/auth/permissions'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AppConfig } from '../config'
@@ -244,7 +244,7 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
         },
       ],
       order: [['updatedAt', 'ASC'], ['id', 'ASC']],
-      limit: 500,
+      limit: REVIEW_QUEUE_LIMIT,
     })
     const ids = rows.map((r) => r.id)
     const frameIds = [...new Set(rows.map((r) => r.frameId))]

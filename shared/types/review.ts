@@ -13,6 +13,9 @@ export const ANALYSIS_STATUS_LABELS: Record<AnalysisStatus, string> = {
   'changes-requested': 'Changes requested',
 }
 
+/** Most analyses one review-queue answer lists (oldest first); a count of exactly this many means "at least". */
+export const REVIEW_QUEUE_LIMIT = 500
+
 export const REVIEW_ACTIONS = ['submit', 'approve', 'request-changes'] as const
 export type ReviewAction = (typeof REVIEW_ACTIONS)[number]
 

@@ -43,7 +43,7 @@ export function reviewQueueSearch(filter: ReviewQueueFilter): string {
   return params.toString()
 }
 
-/** Analyses in a status across the person's labs, oldest first (at most 500). */
+/** Analyses in a status across the person's labs, oldest first (at most REVIEW_QUEUE_LIMIT). */
 export function listReviewQueue(filter: ReviewQueueFilter): Promise<ReviewQueueItemDto[]> {
   return http.get<ReviewQueueItemDto[]>(`/reviews?${reviewQueueSearch(filter)}`)
 }

@@ -99,6 +99,20 @@ export const useReviewsStore = defineStore('reviews', () => {
     }
   }
 
+  /** How many analyses wait for review across the person's labs (for the overview), whatever the queue's filter. */
+  const waitingCount = ref<number | null>(null)
+  const waitingStatus = ref<LoadStatus>('idle')
+
+  async function fetchWaitingCount(): Promise<void> {
+    waitingStatus.value = 'loading'
+    try {
+      waitingCount.value = (await listReviewQueue({ status: 'submitted' })).length
+      waitingStatus.value = 'ready'
+    } catch {
+      waitingStatus.value = 'error'
+    }
+  }
+
   async function loadMask(current: ReviewedAnalysisDto): Promise<void> {
     maskError.value = null
     try {
@@ -214,6 +228,9 @@ export const useReviewsStore = defineStore('reviews', () => {
     status,
     error,
     fetchQueue,
+    waitingCount,
+    waitingStatus,
+    fetchWaitingCount,
     open,
     step,
     comment,
