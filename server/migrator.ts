@@ -11,6 +11,7 @@ import * as collaboration from './migrations/0004-collaboration'
 import * as labMaterials from './migrations/0005-lab-materials'
 import * as motionFrames from './migrations/0006-motion-frames'
 import * as frameClaims from './migrations/0007-frame-claims'
+import * as coverFrames from './migrations/0008-cover-frames'
 
 /** Migrations are listed here (not globbed) so the bundle of a deployment and the test runner see the same set. */
 const MIGRATIONS = [
@@ -21,6 +22,7 @@ const MIGRATIONS = [
   { name: '0005-lab-materials', module: labMaterials },
   { name: '0006-motion-frames', module: motionFrames },
   { name: '0007-frame-claims', module: frameClaims },
+  { name: '0008-cover-frames', module: coverFrames },
 ]
 
 export function createMigrator(sequelize: Sequelize) {

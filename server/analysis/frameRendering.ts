@@ -82,8 +82,27 @@ function toGreyRgba(frame: GrayImage, low: number, high: number): Buffer {
   return out
 }
 
-/** Both derivatives of one frame as PNG bytes, with the display range used. */
-export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Array; thumbnail: Uint8Array; low: number; high: number }> {
+/**
+ * How much domain-wall detail an opaque grey RGBA bitmap shows: the mean absolute difference between each inner pixel
+ * and the mean of its four neighbours (a discrete Laplacian), in display grey levels. Walls are sharp steps and
+ * score; the smooth illumination gradient of a saturated frame, stretched to full contrast all the same, scores near
+ * zero, and on a thumbnail the area-averaging resize has already smoothed most pixel noise away. It only chooses the
+ * frame that stands for an image in lists (a field sweep starts saturated); it is never a measurement.
+ */
+export function wallDetail(rgba: Uint8Array, width: number, height: number): number {
+  if (width < 3 || height < 3) return 0
+  const grey = (x: number, y: number) => rgba[4 * (y * width + x)]
+  let sum = 0
+  for (let y = 1; y < height - 1; y++) {
+    for (let x = 1; x < width - 1; x++) {
+      sum += Math.abs(grey(x, y) - (grey(x - 1, y) + grey(x + 1, y) + grey(x, y - 1) + grey(x, y + 1)) / 4)
+    }
+  }
+  return sum / ((width - 2) * (height - 2))
+}
+
+/** Both derivatives of one frame as PNG bytes, with the display range used and the thumbnail's wallDetail. */
+export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Array; thumbnail: Uint8Array; low: number; high: number; wallDetail: number }> {
   const { Jimp } = await import('jimp')
   const { low, high } = displayRange(frame)
   // The constructor takes the bitmap as it is (fromBitmap would copy it).
@@ -94,5 +113,5 @@ export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Arr
   // preview is already encoded, so the bitmap is resized in place rather than copied.
   image.resize({ w: Math.max(1, Math.round(frame.width * scale)), h: Math.max(1, Math.round(frame.height * scale)) })
   const thumbnail = await image.getBuffer('image/png', PNG_OPTIONS)
-  return { preview, thumbnail, low, high }
+  return { preview, thumbnail, low, high, wallDetail: wallDetail(image.bitmap.data, image.bitmap.width, image.bitmap.height) }
 }

@@ -78,6 +78,8 @@ export class Image extends Model<InferAttributes<Image>, InferCreationAttributes
   declare height: number
   declare bitDepth: number
   declare frameCount: number
+  /** The frame shown for the image in lists and reports (the most wall detail at ingest; 0 before that was kept). */
+  declare coverFrameIndex: CreationOptional<number>
   declare pixelSizeNm: number | null
   declare pixelSizeSource: string | null
   declare notes: CreationOptional<string>
@@ -396,6 +398,7 @@ export function defineModels(sequelize: Sequelize): Models {
       height: { type: DataTypes.INTEGER, allowNull: false },
       bitDepth: { type: DataTypes.INTEGER, allowNull: false },
       frameCount: { type: DataTypes.INTEGER, allowNull: false },
+      coverFrameIndex: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
       pixelSizeNm: { type: DataTypes.DOUBLE, allowNull: true },
       pixelSizeSource: { type: DataTypes.STRING(40), allowNull: true },
       notes: { type: DataTypes.TEXT, allowNull: false, defaultValue: '' },

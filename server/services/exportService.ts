@@ -215,6 +215,7 @@ export function createExportService(deps: { sequelize: Sequelize; annotations: A
           width: image.width,
           height: image.height,
           frameCount: image.frameCount,
+          coverFrameIndex: image.coverFrameIndex,
           pixelSizeNm: image.pixelSizeNm,
           acquiredAt: image.acquiredAt?.toISOString() ?? null,
           frames: frames

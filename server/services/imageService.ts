@@ -174,7 +174,10 @@ export function createImageService(deps: ImageServiceDeps) {
     const shared = pool.openFile(file.path, file.originalName)
     try {
       await put(objectKey, { path: file.path }, header.mediaType)
-      await forEachIndexBounded(header.frameCount, pool.size + 1, (index) => storeFrameDerivatives(pool, shared, { objectKey, index }, put))
+      const wallDetails = new Float64Array(header.frameCount)
+      await forEachIndexBounded(header.frameCount, pool.size + 1, async (index) => {
+        wallDetails[index] = await storeFrameDerivatives(pool, shared, { objectKey, index }, put)
+      })
       const pixelSizeNm = options.pixelSizeNm ?? header.pixelSizeNm
       const pixelSizeSource = options.pixelSizeNm != null ? 'typed' : header.pixelSizeNm != null ? header.pixelSizeSource : null
       return await sequelize.transaction(async (transaction) => {
@@ -193,6 +196,7 @@ export function createImageService(deps: ImageServiceDeps) {
             height: header.height,
             bitDepth: header.bitDepth,
             frameCount: header.frameCount,
+            coverFrameIndex: indexOfLargest(wallDetails),
             pixelSizeNm,
             pixelSizeSource,
             notes: options.notes ?? '',
@@ -228,8 +232,8 @@ export function createImageService(deps: ImageServiceDeps) {
     }
   }
 
-  /** Decode and render one frame in an analysis thread, then store its preview, thumbnail and raw pixels. */
-  async function storeFrameDerivatives(pool: AnalysisPool, file: SharedFile, frame: { objectKey: string; index: number }, put: (key: string, body: Buffer, type: string) => Promise<void>) {
+  /** Decode and render one frame in an analysis thread, then store its preview, thumbnail and raw pixels; returns its wall detail. */
+  async function storeFrameDerivatives(pool: AnalysisPool, file: SharedFile, frame: { objectKey: string; index: number }, put: (key: string, body: Buffer, type: string) => Promise<void>): Promise<number> {
     const rendered = await pool.renderFrame(file, frame.index).catch((err: unknown) => {
       // Errors of the pool itself (closed, a thread gone) are the server's, not the file's.
       throw err instanceof AnalysisWorkerError ? decodeErrorToAppError(err, file.fileName) : err
@@ -242,6 +246,7 @@ export function createImageService(deps: ImageServiceDeps) {
     ] as const) {
       await put(frameObjectKey(frame, frame.index, kind), Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), type)
     }
+    return rendered.wallDetail
   }
 
   /** @param withSample also load the image's sample (as `Sample`) in the same query. */
@@ -370,6 +375,13 @@ function checkMotionTimes<T extends { kind: string; rows: { frame: number; line:
   return table
 }
 
+/** Index of the largest value, the first of equals (so a stack of identical frames keeps frame 0). */
+function indexOfLargest(values: Float64Array): number {
+  let best = 0
+  for (let i = 1; i < values.length; i++) if (values[i] > values[best]) best = i
+  return best
+}
+
 function toUploadedDto(image: Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'pixelSizeNm'>): UploadedImageDto {
   return { id: image.id, name: image.name, sha256: image.sha256, width: image.width, height: image.height, bitDepth: image.bitDepth, frameCount: image.frameCount, pixelSizeNm: image.pixelSizeNm }
 }
@@ -440,7 +452,7 @@ function imageListQuery(labIds: number[], query: ImageListQuery): { sql: string;
       FROM images AS "Image" WHERE ${where}
       ORDER BY "Image".${column} ${direction}, "Image".id ASC LIMIT :limit OFFSET :offset)
     SELECT "Image".id, "Image".name, "Image".sha256, "Image".width, "Image".height, "Image".bit_depth AS "bitDepth",
-      "Image".frame_count AS "frameCount", "Image".pixel_size_nm AS "pixelSizeNm", "Image".project_id AS "projectId",
+      "Image".frame_count AS "frameCount", "Image".cover_frame_index AS "coverFrameIndex", "Image".pixel_size_nm AS "pixelSizeNm", "Image".project_id AS "projectId",
       "Image".sample_id AS "sampleId", "Image".uploaded_by_id AS "uploadedById", "Image".technique,
       "Image".created_at AS "createdAt", "Image".acquired_at AS "acquiredAt", page.total_count AS "totalCount",
       ${ANNOTATION_STATUS_SQL} AS "annotationStatus"
@@ -450,13 +462,14 @@ function imageListQuery(labIds: number[], query: ImageListQuery): { sql: string;
 }
 
 /** The image columns a list row shows: a model instance and a row of `imageListQuery` both have them. */
-type ImageSummaryFields = Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'pixelSizeNm' | 'projectId' | 'sampleId' | 'uploadedById' | 'technique' | 'createdAt' | 'acquiredAt'>
+type ImageSummaryFields = Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'coverFrameIndex' | 'pixelSizeNm' | 'projectId' | 'sampleId' | 'uploadedById' | 'technique' | 'createdAt' | 'acquiredAt'>
 
 type ImageListRow = ImageSummaryFields & { totalCount: string; annotationStatus: FrameAnnotationStatus }
 
 function toSummaryDto(image: ImageSummaryFields, annotationStatus: FrameAnnotationStatus): ImageSummaryDto {
   return {
     ...toUploadedDto(image),
+    coverFrameIndex: image.coverFrameIndex,
     projectId: image.projectId,
     sampleId: image.sampleId,
     uploadedById: image.uploadedById ?? null,

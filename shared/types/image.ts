@@ -16,6 +16,8 @@ export interface UploadedImageDto {
 export type FrameAnnotationStatus = 'new' | 'in-progress' | 'submitted'
 
 export interface ImageSummaryDto extends UploadedImageDto {
+  /** The frame that stands for the image in lists and reports: the one with the most wall detail at ingest. */
+  coverFrameIndex: number
   projectId: number
   sampleId: number | null
   /** Who uploaded it (null when that account is gone): microscopists may delete their own uploads only. */

@@ -55,6 +55,8 @@ export interface ReportImageDto {
   width: number
   height: number
   frameCount: number
+  /** The frame shown for the image (ImageSummaryDto.coverFrameIndex). */
+  coverFrameIndex: number
   pixelSizeNm: number | null
   acquiredAt: string | null
   frames: ReportFrameDto[]

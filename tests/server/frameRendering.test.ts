@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest'
 import { Jimp } from 'jimp'
-import { THUMBNAIL_SIZE, displayRange, renderFrame } from '../../server/analysis/frameRendering'
+import { THUMBNAIL_SIZE, displayRange, renderFrame, wallDetail } from '../../server/analysis/frameRendering'
 import type { GrayImage } from '../../shared/analysis/types'
 
 /** Width, height, PNG colour type and bit depth from the IHDR chunk, and the decoded RGBA bitmap. */
@@ -76,5 +76,38 @@ describe('renderFrame', () => {
     for (const png of [await readPng(preview), await readPng(thumbnail)]) {
       expect(new Set(png.rgba.filter((_, k) => k % 4 === 0))).toEqual(new Set([128]))
     }
+  })
+})
+
+/** Opaque grey RGBA of `grey(x, y)`, as jimp holds a bitmap. */
+function greyRgba(width: number, height: number, grey: (x: number, y: number) => number): Uint8Array {
+  const rgba = new Uint8Array(4 * width * height)
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      const i = 4 * (y * width + x)
+      rgba[i] = rgba[i + 1] = rgba[i + 2] = grey(x, y)
+      rgba[i + 3] = 255
+    }
+  }
+  return rgba
+}
+
+describe('wallDetail', () => {
+  it('When the bitmap is a linear ramp (a saturated frame under uneven light), then its detail is exactly 0', () => {
+    // The four-neighbour mean of a linear function is the function itself.
+    expect(wallDetail(greyRgba(32, 32, (x, y) => 3 * x + 4 * y), 32, 32)).toBe(0)
+  })
+
+  it('When the bitmap holds vertical stripes 0/255 of width 4, then the detail is 255/4 per wall pixel on average (by hand: 63.75 · 2/4)', () => {
+    // Each column next to a wall differs from its neighbours' mean by 255/4; half the columns touch a wall.
+    expect(wallDetail(greyRgba(34, 10, (x) => (Math.floor(x / 4) % 2 === 0 ? 0 : 255)), 34, 10)).toBeCloseTo((255 / 4) * (2 / 4), 10)
+  })
+
+  it('When a frame has domains, then its thumbnail scores above that of the same field of view saturated', async () => {
+    const size = 256
+    const light = (x: number, y: number) => 8000 + 20 * x + 12 * y
+    const saturated: GrayImage = { width: size, height: size, data: Uint16Array.from({ length: size * size }, (_, i) => light(i % size, Math.floor(i / size))) }
+    const domains: GrayImage = { width: size, height: size, data: saturated.data.map((v, i) => v + (Math.floor((i % size) / 12) % 2 === 0 ? 0 : 3000)) }
+    expect((await renderFrame(domains)).wallDetail).toBeGreaterThan(10 * (await renderFrame(saturated)).wallDetail)
   })
 })

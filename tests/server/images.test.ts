@@ -108,6 +108,23 @@ describe('images', () => {
       expect(list.body.items.map((i: { id: number; uploadedById: number }) => [i.id, i.uploadedById])).toEqual([[id, home.people.microscopist.id]])
     })
 
+    it('When a field sweep starts saturated, then the frame with domains stands for it in the list and the detail', async () => {
+      // Saturated frames are smooth ramps (uneven illumination); the middle frame has stripe domains on the same ramp.
+      const size = 64
+      const saturated = (offset: number): GrayImage => ({ width: size, height: size, data: Uint16Array.from({ length: size * size }, (_, i) => 9000 + offset + 30 * (i % size) + 20 * Math.floor(i / size)) })
+      const striped = saturated(0)
+      striped.data = striped.data.map((v, i) => v + (Math.floor((i % size) / 6) % 2 === 0 ? 0 : 2500))
+      const res = await upload([{ name: 'cover-sweep.tif', body: Buffer.from(encodeTiff([saturated(0), saturated(5), striped, saturated(9)])) }])
+      expect(res.status, JSON.stringify(res.body)).toBe(201)
+      const id = res.body[0].id as number
+      const list = await microscopist.agent.get(`/api/images?projectId=${home.project.id}&search=cover-sweep.tif`)
+      expect(list.body.items.map((i: { coverFrameIndex: number }) => i.coverFrameIndex)).toEqual([2])
+      expect((await microscopist.agent.get(`/api/images/${id}`)).body.coverFrameIndex).toBe(2)
+      // A single frame stands for itself.
+      const single = await upload([{ name: 'cover-single.tif', body: Buffer.from(encodeTiff([saturated(0)])) }])
+      expect((await microscopist.agent.get(`/api/images/${single.body[0].id}`)).body.coverFrameIndex).toBe(0)
+    })
+
     it('When a 41-frame 16-bit stack comes with a fields CSV, then 41 frames with their fields in the stated unit', async () => {
       const frames = Array.from({ length: 41 }, (_, i) => ramp(32, 32, i))
       const fields = Array.from({ length: 41 }, (_, i) => (i <= 20 ? 20 - 2 * i : -20 + 2 * (i - 20)))

@@ -14,6 +14,7 @@ function summary(id: number, name: string): ImageSummaryDto {
     height: 512,
     bitDepth: 16,
     frameCount: 1,
+    coverFrameIndex: 0,
     pixelSizeNm: 120,
     projectId: 3,
     sampleId: null,

@@ -23,6 +23,7 @@ function detail(uploadedById: number | null): ImageDetailDto {
     height: 4,
     bitDepth: 16,
     frameCount: 1,
+    coverFrameIndex: 0,
     pixelSizeNm: 100,
     projectId: 2,
     sampleId: null,

@@ -22,6 +22,7 @@ function summary(id: number, name: string, uploadedById: number | null): ImageSu
     height: 256,
     bitDepth: 16,
     frameCount: 1,
+    coverFrameIndex: 0,
     pixelSizeNm: 80,
     projectId: 3,
     sampleId: null,
