@@ -40,8 +40,8 @@ export interface RenderedFrame {
   preview: Uint8Array
   thumbnail: Uint8Array
   pixels: Uint8Array
-  /** Wall detail of the thumbnail (frameRendering.wallDetail): ingest keeps the frame with the most as the cover. */
-  wallDetail: number
+  /** Domain pattern of the thumbnail in raw units (frameRendering.patternAboveBackground): ingest keeps the frame with the most as the cover. */
+  pattern: number
 }
 
 /** The work a worker can be given; frame tasks name a shared file and a 0-based frame index. */

@@ -133,9 +133,9 @@ function ownMask(mask: BinaryMask, transfer: ArrayBuffer[]): BinaryMask {
 
 /** The frame's derivatives, each in a buffer of its own, ready to transfer. */
 async function renderedFrame(frame: GrayImage, transfer: ArrayBuffer[]): Promise<RenderedFrame> {
-  const { preview, thumbnail, wallDetail } = await renderFrame(frame)
+  const { preview, thumbnail, pattern } = await renderFrame(frame)
   const { data } = frame
-  const rendered = { preview: ownArray(preview), thumbnail: ownArray(thumbnail), pixels: ownArray(new Uint8Array(data.buffer, data.byteOffset, data.byteLength)), wallDetail }
+  const rendered = { preview: ownArray(preview), thumbnail: ownArray(thumbnail), pixels: ownArray(new Uint8Array(data.buffer, data.byteOffset, data.byteLength)), pattern }
   transfer.push(rendered.preview.buffer as ArrayBuffer, rendered.thumbnail.buffer as ArrayBuffer, rendered.pixels.buffer as ArrayBuffer)
   return rendered
 }

@@ -82,27 +82,84 @@ function toGreyRgba(frame: GrayImage, low: number, high: number): Buffer {
   return out
 }
 
-/**
- * How much domain-wall detail an opaque grey RGBA bitmap shows: the mean absolute difference between each inner pixel
- * and the mean of its four neighbours (a discrete Laplacian), in display grey levels. Walls are sharp steps and
- * score; the smooth illumination gradient of a saturated frame, stretched to full contrast all the same, scores near
- * zero, and on a thumbnail the area-averaging resize has already smoothed most pixel noise away. It only chooses the
- * frame that stands for an image in lists (a field sweep starts saturated); it is never a measurement.
- */
-export function wallDetail(rgba: Uint8Array, width: number, height: number): number {
-  if (width < 3 || height < 3) return 0
-  const grey = (x: number, y: number) => rgba[4 * (y * width + x)]
-  let sum = 0
-  for (let y = 1; y < height - 1; y++) {
-    for (let x = 1; x < width - 1; x++) {
-      sum += Math.abs(grey(x, y) - (grey(x - 1, y) + grey(x + 1, y) + grey(x, y - 1) + grey(x, y + 1)) / 4)
-    }
-  }
-  return sum / ((width - 2) * (height - 2))
+/** Terms of the background surface fitted under a thumbnail: 1, u, v, u², uv, v² (u, v in [−1, 1]). */
+const BACKGROUND_TERMS = 6
+
+function backgroundTerms(u: number, v: number, out: Float64Array): void {
+  out[0] = 1
+  out[1] = u
+  out[2] = v
+  out[3] = u * u
+  out[4] = u * v
+  out[5] = v * v
 }
 
-/** Both derivatives of one frame as PNG bytes, with the display range used and the thumbnail's wallDetail. */
-export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Array; thumbnail: Uint8Array; low: number; high: number; wallDetail: number }> {
+/** Solves the small symmetric system a·x = b in place (Gaussian elimination with partial pivoting); null if singular. */
+function solveSmall(a: Float64Array, b: Float64Array, n: number): Float64Array | null {
+  for (let col = 0; col < n; col++) {
+    let pivot = col
+    for (let row = col + 1; row < n; row++) if (Math.abs(a[row * n + col]) > Math.abs(a[pivot * n + col])) pivot = row
+    if (Math.abs(a[pivot * n + col]) < 1e-12) return null
+    for (let k = 0; k < n; k++) [a[col * n + k], a[pivot * n + k]] = [a[pivot * n + k], a[col * n + k]]
+    ;[b[col], b[pivot]] = [b[pivot], b[col]]
+    for (let row = col + 1; row < n; row++) {
+      const factor = a[row * n + col] / a[col * n + col]
+      for (let k = col; k < n; k++) a[row * n + k] -= factor * a[col * n + k]
+      b[row] -= factor * b[col]
+    }
+  }
+  const x = new Float64Array(n)
+  for (let row = n - 1; row >= 0; row--) {
+    let sum = b[row]
+    for (let k = row + 1; k < n; k++) sum -= a[row * n + k] * x[k]
+    x[row] = sum / a[row * n + row]
+  }
+  return x
+}
+
+/**
+ * How much domain pattern an opaque grey RGBA thumbnail shows: the standard deviation of its grey levels about a
+ * least-squares quadratic surface (the uneven illumination of a Kerr image), times `rawPerGrey` so that frames
+ * stretched to different display ranges compare in the camera's own units. A saturated frame leaves only noise, which
+ * the thumbnail's area averaging has mostly removed; domains leave their contrast (c·√(f(1−f)) for a phase of area
+ * fraction f), and the coldest frames of a temperature ramp the most. It only chooses the frame that stands for an
+ * image in lists (a field sweep starts saturated); it is never a measurement.
+ */
+export function patternAboveBackground(rgba: Uint8Array, width: number, height: number, rawPerGrey: number): number {
+  const n = width * height
+  if (n < BACKGROUND_TERMS * 2) return 0
+  const normal = new Float64Array(BACKGROUND_TERMS * BACKGROUND_TERMS)
+  const rhs = new Float64Array(BACKGROUND_TERMS)
+  const terms = new Float64Array(BACKGROUND_TERMS)
+  const uOf = (x: number) => (width > 1 ? (2 * x) / (width - 1) - 1 : 0)
+  const vOf = (y: number) => (height > 1 ? (2 * y) / (height - 1) - 1 : 0)
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      backgroundTerms(uOf(x), vOf(y), terms)
+      const grey = rgba[4 * (y * width + x)]
+      for (let i = 0; i < BACKGROUND_TERMS; i++) {
+        rhs[i] += terms[i] * grey
+        for (let j = 0; j < BACKGROUND_TERMS; j++) normal[i * BACKGROUND_TERMS + j] += terms[i] * terms[j]
+      }
+    }
+  }
+  const fit = solveSmall(normal, rhs, BACKGROUND_TERMS)
+  if (fit === null) return 0
+  let squares = 0
+  for (let y = 0; y < height; y++) {
+    for (let x = 0; x < width; x++) {
+      backgroundTerms(uOf(x), vOf(y), terms)
+      let background = 0
+      for (let i = 0; i < BACKGROUND_TERMS; i++) background += fit[i] * terms[i]
+      const residual = rgba[4 * (y * width + x)] - background
+      squares += residual * residual
+    }
+  }
+  return Math.sqrt(squares / n) * rawPerGrey
+}
+
+/** Both derivatives of one frame as PNG bytes, with the display range used and the thumbnail's patternAboveBackground. */
+export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Array; thumbnail: Uint8Array; low: number; high: number; pattern: number }> {
   const { Jimp } = await import('jimp')
   const { low, high } = displayRange(frame)
   // The constructor takes the bitmap as it is (fromBitmap would copy it).
@@ -113,5 +170,6 @@ export async function renderFrame(frame: GrayImage): Promise<{ preview: Uint8Arr
   // preview is already encoded, so the bitmap is resized in place rather than copied.
   image.resize({ w: Math.max(1, Math.round(frame.width * scale)), h: Math.max(1, Math.round(frame.height * scale)) })
   const thumbnail = await image.getBuffer('image/png', PNG_OPTIONS)
-  return { preview, thumbnail, low, high, wallDetail: wallDetail(image.bitmap.data, image.bitmap.width, image.bitmap.height) }
+  const rawPerGrey = high > low ? (high - low) / 255 : 0
+  return { preview, thumbnail, low, high, pattern: patternAboveBackground(image.bitmap.data, image.bitmap.width, image.bitmap.height, rawPerGrey) }
 }

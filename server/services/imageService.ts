@@ -174,9 +174,9 @@ export function createImageService(deps: ImageServiceDeps) {
     const shared = pool.openFile(file.path, file.originalName)
     try {
       await put(objectKey, { path: file.path }, header.mediaType)
-      const wallDetails = new Float64Array(header.frameCount)
+      const patterns = new Float64Array(header.frameCount)
       await forEachIndexBounded(header.frameCount, pool.size + 1, async (index) => {
-        wallDetails[index] = await storeFrameDerivatives(pool, shared, { objectKey, index }, put)
+        patterns[index] = await storeFrameDerivatives(pool, shared, { objectKey, index }, put)
       })
       const pixelSizeNm = options.pixelSizeNm ?? header.pixelSizeNm
       const pixelSizeSource = options.pixelSizeNm != null ? 'typed' : header.pixelSizeNm != null ? header.pixelSizeSource : null
@@ -196,7 +196,7 @@ export function createImageService(deps: ImageServiceDeps) {
             height: header.height,
             bitDepth: header.bitDepth,
             frameCount: header.frameCount,
-            coverFrameIndex: indexOfLargest(wallDetails),
+            coverFrameIndex: indexOfLargest(patterns),
             pixelSizeNm,
             pixelSizeSource,
             notes: options.notes ?? '',
@@ -232,7 +232,7 @@ export function createImageService(deps: ImageServiceDeps) {
     }
   }
 
-  /** Decode and render one frame in an analysis thread, then store its preview, thumbnail and raw pixels; returns its wall detail. */
+  /** Decode and render one frame in an analysis thread, then store its preview, thumbnail and raw pixels; returns its domain pattern (patternAboveBackground). */
   async function storeFrameDerivatives(pool: AnalysisPool, file: SharedFile, frame: { objectKey: string; index: number }, put: (key: string, body: Buffer, type: string) => Promise<void>): Promise<number> {
     const rendered = await pool.renderFrame(file, frame.index).catch((err: unknown) => {
       // Errors of the pool itself (closed, a thread gone) are the server's, not the file's.
@@ -246,7 +246,7 @@ export function createImageService(deps: ImageServiceDeps) {
     ] as const) {
       await put(frameObjectKey(frame, frame.index, kind), Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength), type)
     }
-    return rendered.wallDetail
+    return rendered.pattern
   }
 
   /** @param withSample also load the image's sample (as `Sample`) in the same query. */

@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest'
 import { Jimp } from 'jimp'
-import { THUMBNAIL_SIZE, displayRange, renderFrame, wallDetail } from '../../server/analysis/frameRendering'
+import { THUMBNAIL_SIZE, displayRange, patternAboveBackground, renderFrame } from '../../server/analysis/frameRendering'
 import type { GrayImage } from '../../shared/analysis/types'
 
 /** Width, height, PNG colour type and bit depth from the IHDR chunk, and the decoded RGBA bitmap. */
@@ -92,22 +92,26 @@ function greyRgba(width: number, height: number, grey: (x: number, y: number) =>
   return rgba
 }
 
-describe('wallDetail', () => {
-  it('When the bitmap is a linear ramp (a saturated frame under uneven light), then its detail is exactly 0', () => {
-    // The four-neighbour mean of a linear function is the function itself.
-    expect(wallDetail(greyRgba(32, 32, (x, y) => 3 * x + 4 * y), 32, 32)).toBe(0)
+describe('patternAboveBackground', () => {
+  it('When the bitmap is a quadratic surface (a saturated frame under uneven light), then no pattern is left above it', () => {
+    const vignette = (x: number, y: number) => Math.round(200 - 0.05 * (x - 20) ** 2 - 0.04 * (y - 14) ** 2 + 0.5 * x)
+    // Rounding to whole grey levels leaves at most ±0.5, a standard deviation of about 0.29 (uniform, 1/√12).
+    expect(patternAboveBackground(greyRgba(40, 30, vignette), 40, 30, 1)).toBeLessThan(0.35)
   })
 
-  it('When the bitmap holds vertical stripes 0/255 of width 4, then the detail is 255/4 per wall pixel on average (by hand: 63.75 · 2/4)', () => {
-    // Each column next to a wall differs from its neighbours' mean by 255/4; half the columns touch a wall.
-    expect(wallDetail(greyRgba(34, 10, (x) => (Math.floor(x / 4) % 2 === 0 ? 0 : 255)), 34, 10)).toBeCloseTo((255 / 4) * (2 / 4), 10)
+  it('When half the bitmap is one phase and half the other (contrast c), then the pattern is c/2 in raw units: c·√(f(1−f)) at f = ½', () => {
+    // 16 stripes of 4 px, 0 and 200 grey levels, on a flat background; 3 raw units per grey level.
+    const stripes = greyRgba(64, 32, (x) => (Math.floor(x / 4) % 2 === 0 ? 0 : 200))
+    expect(patternAboveBackground(stripes, 64, 32, 3)).toBeCloseTo(3 * 100, -1)
   })
 
-  it('When a frame has domains, then its thumbnail scores above that of the same field of view saturated', async () => {
+  it('When frames are rendered, then one with domains scores above the same field of view saturated, and lower contrast scores lower', async () => {
     const size = 256
-    const light = (x: number, y: number) => 8000 + 20 * x + 12 * y
+    const light = (x: number, y: number) => 8000 + 20 * x + 12 * y + 0.02 * (x - 128) ** 2
     const saturated: GrayImage = { width: size, height: size, data: Uint16Array.from({ length: size * size }, (_, i) => light(i % size, Math.floor(i / size))) }
-    const domains: GrayImage = { width: size, height: size, data: saturated.data.map((v, i) => v + (Math.floor((i % size) / 12) % 2 === 0 ? 0 : 3000)) }
-    expect((await renderFrame(domains)).wallDetail).toBeGreaterThan(10 * (await renderFrame(saturated)).wallDetail)
+    const withDomains = (contrast: number): GrayImage => ({ width: size, height: size, data: saturated.data.map((v, i) => v + (Math.floor((i % size) / 12) % 2 === 0 ? 0 : contrast)) })
+    const [flat, strong, weak] = await Promise.all([renderFrame(saturated), renderFrame(withDomains(3000)), renderFrame(withDomains(1000))])
+    expect(strong.pattern).toBeGreaterThan(weak.pattern)
+    expect(weak.pattern).toBeGreaterThan(10 * flat.pattern)
   })
 })
