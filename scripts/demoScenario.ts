@@ -71,7 +71,7 @@ export const DEMO_IMAGES: { file: string; frames?: string; sample: string; techn
     frames: 'KB24-A300_field-sweep.csv',
     sample: 'KB24-A300',
     technique: 'kerr-polar',
-    notes: 'Field sweep +20 → −20 → +20 mT along the film normal, 1 mT steps, Hall probe at the sample.',
+    notes: 'Field sweep +20 → −20 → +20 mT along the film normal, 2 mT steps, Hall probe at the sample.',
     acquiredAt: '2026-11-12T14:05:00Z',
   },
   {

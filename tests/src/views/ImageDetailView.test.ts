@@ -97,3 +97,30 @@ describe('ImageDetailView for a missing image', () => {
     await vi.waitFor(() => expect(router.currentRoute.value.name).toBe('images'), { timeout: 5000 })
   })
 })
+
+describe('ImageDetailView opening frame', () => {
+  const stack = (): ImageDetailDto => ({
+    ...detail(ME),
+    frameCount: 3,
+    coverFrameIndex: 2,
+    frames: [0, 1, 2].map((index) => ({ id: 11 + index, index, field: 10 - 10 * index, fieldUnit: 'mT', temperatureK: null, annotationStatus: 'new', assignee: null })),
+  })
+
+  it('When a stack is opened, then it shows its cover frame (the one the image list shows), not the saturated first one', async () => {
+    const wrapper = await mountDetail('pi', ME, () => jsonResponse(200, stack()))
+    expect(wrapper.text()).toContain('Annotate frame 2')
+  })
+
+  it('When a link names a frame (?frame=1), then that frame wins over the cover', async () => {
+    stubFetch({
+      'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role: 'pi' }], csrfToken: 't' }),
+      'GET /api/projects': () => jsonResponse(200, []),
+      'GET /api/images/9': () => jsonResponse(200, stack()),
+    })
+    router = createAppRouter(createMemoryHistory())
+    await router.push('/images/9?frame=1')
+    const wrapper = mount(ImageDetailView, { props: { imageId: 9 }, global: { plugins: [pinia, router, ElementPlus], stubs: Object.fromEntries(STUBBED.map((name) => [name, true])) }, attachTo: document.body })
+    await flushPromises()
+    expect(wrapper.text()).toContain('Annotate frame 1')
+  })
+})
