@@ -44,14 +44,14 @@ function detail(uploadedById: number | null): ImageDetailDto {
 /** The page's header only: the viewer, tables and panels below it are stubbed, as they play no part in deleting. */
 const STUBBED = ['ImageCanvas', 'ImageCanvasToolbar', 'ImageCompareControls', 'ImageDisplayControls', 'ImageFramePlayer', 'ImageFrameTable', 'ImageMetadataPanel', 'ImageStackRunsPanel', 'ImageCalibrationDialog']
 
-async function mountDetail(role: LabRole, uploadedById: number | null, image: () => Response = () => jsonResponse(200, detail(uploadedById))) {
+async function mountDetail(role: LabRole, uploadedById: number | null, image: () => Response = () => jsonResponse(200, detail(uploadedById)), path = '/images/9') {
   stubFetch({
     'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
     'GET /api/projects': () => jsonResponse(200, [{ id: 2, labId: 1, name: 'Garnet film', description: '', createdAt: '2026-01-01T00:00:00.000Z', sampleCount: 0, imageCount: 1 }]),
     'GET /api/images/9': image,
   })
   router = createAppRouter(createMemoryHistory())
-  await router.push('/images/9')
+  await router.push(path)
   const wrapper = mount(ImageDetailView, {
     props: { imageId: 9 },
     global: { plugins: [pinia, router, ElementPlus], stubs: Object.fromEntries(STUBBED.map((name) => [name, true])) },
@@ -112,15 +112,7 @@ describe('ImageDetailView opening frame', () => {
   })
 
   it('When a link names a frame (?frame=1), then that frame wins over the cover', async () => {
-    stubFetch({
-      'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role: 'pi' }], csrfToken: 't' }),
-      'GET /api/projects': () => jsonResponse(200, []),
-      'GET /api/images/9': () => jsonResponse(200, stack()),
-    })
-    router = createAppRouter(createMemoryHistory())
-    await router.push('/images/9?frame=1')
-    const wrapper = mount(ImageDetailView, { props: { imageId: 9 }, global: { plugins: [pinia, router, ElementPlus], stubs: Object.fromEntries(STUBBED.map((name) => [name, true])) }, attachTo: document.body })
-    await flushPromises()
+    const wrapper = await mountDetail('pi', ME, () => jsonResponse(200, stack()), '/images/9?frame=1')
     expect(wrapper.text()).toContain('Annotate frame 1')
   })
 })
