@@ -4,6 +4,7 @@
  * the contrast), and a thumbnail of at most THUMBNAIL_SIZE px on its longer side, both PNG.
  */
 import type { GrayImage } from '../../shared/analysis/types'
+import { solveLinearSystem } from '../../shared/analysis/linearSolve'
 
 export const THUMBNAIL_SIZE = 160
 
@@ -94,29 +95,6 @@ function backgroundTerms(u: number, v: number, out: Float64Array): void {
   out[5] = v * v
 }
 
-/** Solves the small symmetric system a·x = b in place (Gaussian elimination with partial pivoting); null if singular. */
-function solveSmall(a: Float64Array, b: Float64Array, n: number): Float64Array | null {
-  for (let col = 0; col < n; col++) {
-    let pivot = col
-    for (let row = col + 1; row < n; row++) if (Math.abs(a[row * n + col]) > Math.abs(a[pivot * n + col])) pivot = row
-    if (Math.abs(a[pivot * n + col]) < 1e-12) return null
-    for (let k = 0; k < n; k++) [a[col * n + k], a[pivot * n + k]] = [a[pivot * n + k], a[col * n + k]]
-    ;[b[col], b[pivot]] = [b[pivot], b[col]]
-    for (let row = col + 1; row < n; row++) {
-      const factor = a[row * n + col] / a[col * n + col]
-      for (let k = col; k < n; k++) a[row * n + k] -= factor * a[col * n + k]
-      b[row] -= factor * b[col]
-    }
-  }
-  const x = new Float64Array(n)
-  for (let row = n - 1; row >= 0; row--) {
-    let sum = b[row]
-    for (let k = row + 1; k < n; k++) sum -= a[row * n + k] * x[k]
-    x[row] = sum / a[row * n + row]
-  }
-  return x
-}
-
 /**
  * How much domain pattern an opaque grey RGBA thumbnail shows: the standard deviation of its grey levels about a
  * least-squares quadratic surface (the uneven illumination of a Kerr image), times `rawPerGrey` so that frames
@@ -143,7 +121,7 @@ export function patternAboveBackground(rgba: Uint8Array, width: number, height: 
       }
     }
   }
-  const fit = solveSmall(normal, rhs, BACKGROUND_TERMS)
+  const fit = solveLinearSystem(normal, rhs, 1e-12)
   if (fit === null) return 0
   let squares = 0
   for (let y = 0; y < height; y++) {

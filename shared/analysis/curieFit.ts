@@ -19,6 +19,8 @@
  * rounded by field, finite size or Tc spread; Tc and β are strongly correlated [P].
  */
 
+import { solveLinearSystem } from './linearSolve'
+
 /** One point of a temperature series. */
 export interface CriticalPoint {
   temperature: number
@@ -128,33 +130,16 @@ function scanTc(sample: Sample, tLast: number, span: number, fixedBeta: number |
   return tcAt((lo + hi) / 2)
 }
 
-/** Solve the small symmetric system A·x = b (n ≤ 3) by Gaussian elimination with partial pivoting; null if singular. */
-function solve(a: number[][], b: number[]): number[] | null {
-  const n = b.length
-  const m = a.map((row, i) => [...row, b[i]])
-  for (let col = 0; col < n; col++) {
-    let pivot = col
-    for (let r = col + 1; r < n; r++) if (Math.abs(m[r][col]) > Math.abs(m[pivot][col])) pivot = r
-    if (!(Math.abs(m[pivot][col]) > 0)) return null
-    ;[m[col], m[pivot]] = [m[pivot], m[col]]
-    for (let r = col + 1; r < n; r++) {
-      const f = m[r][col] / m[col][col]
-      for (let c = col; c <= n; c++) m[r][c] -= f * m[col][c]
-    }
-  }
-  const x = new Array<number>(n).fill(0)
-  for (let r = n - 1; r >= 0; r--) {
-    let s = m[r][n]
-    for (let c = r + 1; c < n; c++) s -= m[r][c] * x[c]
-    x[r] = s / m[r][r]
-  }
-  return x.every(Number.isFinite) ? x : null
+/** A·x = b for the fit's normal equations; null if singular or if x is not finite. */
+function solve(a: number[][], b: ArrayLike<number>): Float64Array | null {
+  const x = solveLinearSystem(a.flat(), b)
+  return x !== null && x.every(Number.isFinite) ? x : null
 }
 
 /** Inverse of a small matrix column by column; null if singular. */
 function invert(a: number[][]): number[][] | null {
   const n = a.length
-  const columns: number[][] = []
+  const columns: Float64Array[] = []
   for (let j = 0; j < n; j++) {
     const e = new Array<number>(n).fill(0)
     e[j] = 1

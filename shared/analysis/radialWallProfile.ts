@@ -22,6 +22,7 @@
  * Output: px; u has one sample per ray, in order of increasing θ (from +x towards +y, rows downwards on screen).
  */
 import type { BinaryMask } from './types'
+import { solveLinearSystem } from './linearSolve'
 
 export interface RadialWallProfileOptions {
   /** Phase value of the domain (default 1 = up). */
@@ -47,30 +48,6 @@ export interface RadialWallProfile {
 /** Sampling step along a ray, px. */
 const RAY_STEP = 0.25
 
-/** Solve the small symmetric system A·x = b in place by Gaussian elimination with partial pivoting; null if singular. */
-function solve(a: number[][], b: number[]): number[] | null {
-  const n = b.length
-  for (let c = 0; c < n; c++) {
-    let pivot = c
-    for (let r = c + 1; r < n; r++) if (Math.abs(a[r][c]) > Math.abs(a[pivot][c])) pivot = r
-    if (!(Math.abs(a[pivot][c]) > 1e-12)) return null
-    ;[a[c], a[pivot]] = [a[pivot], a[c]]
-    ;[b[c], b[pivot]] = [b[pivot], b[c]]
-    for (let r = c + 1; r < n; r++) {
-      const f = a[r][c] / a[c][c]
-      for (let k = c; k < n; k++) a[r][k] -= f * a[c][k]
-      b[r] -= f * b[c]
-    }
-  }
-  const x = new Array<number>(n).fill(0)
-  for (let r = n - 1; r >= 0; r--) {
-    let s = b[r]
-    for (let k = r + 1; k < n; k++) s -= a[r][k] * x[k]
-    x[r] = s / a[r][r]
-  }
-  return x
-}
-
 /** Basis functions 1, cos θ, sin θ, …, cos Mθ, sin Mθ at θ. */
 function basis(theta: number, modes: number): number[] {
   const out = [1]
@@ -95,7 +72,7 @@ function removeLowModes(radius: Float64Array, modes: number): Float64Array {
     }
   }
   // Too few known samples to fit the modes: keep the mean removal only (or nothing).
-  const coefficients = known > 2 * p ? solve(ata, atb) : null
+  const coefficients = known > 2 * p ? solveLinearSystem(ata.flat(), atb, 1e-12) : null
   const out = new Float64Array(n)
   let mean = 0
   if (coefficients === null) {

@@ -15,6 +15,7 @@
  * each end are taken as the plateaus). Output: positions in px along the line from (x0, y0); widths in px.
  */
 import type { FloatImage, GrayImage } from './types'
+import { solveLinearSystem } from './linearSolve'
 
 export interface LineProfileOptions {
   /** Parallel profiles on each side, 1 px apart, averaged with the central one (default 0). */
@@ -105,39 +106,6 @@ export function sampleLineProfile(
     values[i] = sum / (2 * half + 1)
   }
   return { positions, values }
-}
-
-/** Solve the 4×4 system m·x = v by Gaussian elimination with partial pivoting; null when singular. */
-function solve4(m: Float64Array, v: Float64Array): Float64Array | null {
-  const a = Float64Array.from(m)
-  const b = Float64Array.from(v)
-  for (let c = 0; c < 4; c++) {
-    let pivot = c
-    for (let r = c + 1; r < 4; r++) if (Math.abs(a[r * 4 + c]) > Math.abs(a[pivot * 4 + c])) pivot = r
-    if (!(Math.abs(a[pivot * 4 + c]) > 1e-300)) return null
-    if (pivot !== c) {
-      for (let k = 0; k < 4; k++) {
-        const t = a[c * 4 + k]
-        a[c * 4 + k] = a[pivot * 4 + k]
-        a[pivot * 4 + k] = t
-      }
-      const t = b[c]
-      b[c] = b[pivot]
-      b[pivot] = t
-    }
-    for (let r = c + 1; r < 4; r++) {
-      const f = a[r * 4 + c] / a[c * 4 + c]
-      for (let k = c; k < 4; k++) a[r * 4 + k] -= f * a[c * 4 + k]
-      b[r] -= f * b[c]
-    }
-  }
-  const x = new Float64Array(4)
-  for (let r = 3; r >= 0; r--) {
-    let s = b[r]
-    for (let k = r + 1; k < 4; k++) s -= a[r * 4 + k] * x[k]
-    x[r] = s / a[r * 4 + r]
-  }
-  return x
 }
 
 /** Residual sum of squares of a + b·tanh((x − x0)/w). */
@@ -256,7 +224,7 @@ export function fitTanhProfile(positions: Float64Array, values: Float64Array): T
     for (;;) {
       damped.set(jtj)
       for (let j = 0; j < 4; j++) damped[j * 5] += lambda * (jtj[j * 5] > 0 ? jtj[j * 5] : 1)
-      const delta = solve4(damped, jtr)
+      const delta = solveLinearSystem(damped, jtr, 1e-300)
       const trial = delta === null ? null : Float64Array.from(p, (v, j) => v + delta[j])
       const trialCost = trial === null || trial[3] === 0 ? Infinity : rss(x, y, trial)
       if (trial !== null && delta !== null && trialCost <= cost) {
@@ -288,7 +256,7 @@ export function fitTanhProfile(positions: Float64Array, values: Float64Array): T
     for (let j = 0; j < 4; j++) {
       const e = new Float64Array(4)
       e[j] = 1
-      const column = solve4(jtj, e)
+      const column = solveLinearSystem(jtj, e, 1e-300)
       if (column !== null && column[j] >= 0) stdErr[j] = Math.sqrt(s2 * column[j])
     }
   }
