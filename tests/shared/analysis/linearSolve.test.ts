@@ -1,6 +1,6 @@
 /**
- * solveLinearSystem (shared/analysis/linearSolve.ts) on systems whose exact solutions are worked by hand (common
- * practice, no source: substitute the solution back into every equation).
+ * solveLinearSystem (shared/analysis/linearSolve.ts) on systems whose exact solutions are worked by hand [D]: each
+ * solution substituted back into every equation.
  */
 import { describe, expect, it } from 'vitest'
 import { solveLinearSystem } from '../../../shared/analysis/linearSolve'
