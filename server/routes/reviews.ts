@@ -145,17 +145,30 @@ export function registerReviewRoutes(api: ApiDefinition, reviews: ReviewService)
     handler: (req, _res, { params, body }) => reviews.setCommentResolved(currentUser(req), params.analysisId, params.commentId, body.resolved),
   })
 
+  const queueQuery = z.object({
+    status: StatusSchema.default('submitted'),
+    projectId: z.coerce.number().int().positive().optional(),
+    labId: z.coerce.number().int().positive().optional(),
+  })
+
+  apiRoute(api, {
+    method: 'get',
+    path: '/reviews/count',
+    summary: 'How many analyses the review queue\u2019s filter covers (default: waiting for review), with no limit',
+    tags: ['reviews'],
+    access: 'signed-in',
+    query: queueQuery,
+    responses: { 200: { description: 'Count', schema: z.object({ status: StatusSchema, count: z.number().int() }) } },
+    handler: (req, _res, { query }) => reviews.count(currentUser(req), query),
+  })
+
   apiRoute(api, {
     method: 'get',
     path: '/reviews',
     summary: 'The review queue: analyses in a status (default submitted) across the person\u2019s labs, oldest first, with image, frame, sample and author',
     tags: ['reviews'],
     access: 'signed-in',
-    query: z.object({
-      status: StatusSchema.default('submitted'),
-      projectId: z.coerce.number().int().positive().optional(),
-      labId: z.coerce.number().int().positive().optional(),
-    }),
+    query: queueQuery,
     responses: { 200: { description: 'Queue (at most 500)', schema: z.array(QueueItemSchema) } },
     handler: (req, _res, { query }) => reviews.queue(currentUser(req), query),
   })

@@ -11,7 +11,7 @@
  */
 import { Op, type Sequelize, type Transaction } from 'sequelize'
 import type { AnalysisStatus } from '../../shared/types/lab'
-import { ANALYSIS_STATUS_LABELS, REVIEW_QUEUE_LIMIT, REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueItemDto } from '../../shared/types/review'
+import { ANALYSIS_STATUS_LABELS, REVIEW_QUEUE_LIMIT, REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueCountDto, type ReviewQueueItemDto } from '../../shared/types/review'
 import { PERMISSIONS, type LabAction, type LabRole } from '../../shared/auth/permissions'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { AppConfig } from '../config'
@@ -31,6 +31,8 @@ export class IllegalTransitionError extends AppError {
   }
 }
 
+/** The review queue's filter: a status, optionally one project or one of the person's labs. */
+type QueueFilter = { status: AnalysisStatus; projectId?: number; labId?: number }
 type AnalysisContext = { analysis: Analysis; frame: Frame; image: Image; project: Project; labId: number }
 
 const person = (u: User | null | undefined) => (u ? { id: u.id, name: u.name } : null)
@@ -221,13 +223,13 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
   }
 
   /**
-   * The review queue: analyses in `status` (default 'submitted') across the person's labs, oldest first, with what
-   * they are about. Superseded ones (a newer mask was saved) are flagged, not hidden.
+   * Which analyses a queue filter covers: those in the status, on live images of live projects in the person's labs
+   * (narrowed to one lab or project when asked); null when the person has no lab the filter allows.
    */
-  async function queue(user: SessionUser, filter: { status: AnalysisStatus; projectId?: number; labId?: number }): Promise<ReviewQueueItemDto[]> {
+  function queueScope(user: SessionUser, filter: QueueFilter) {
     const labIds = user.memberships.map((m) => m.labId).filter((id) => filter.labId === undefined || id === filter.labId)
-    if (labIds.length === 0) return []
-    const rows = await Analysis.findAll({
+    if (labIds.length === 0) return null
+    return {
       where: { status: filter.status },
       include: [
         {
@@ -243,9 +245,23 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
           ],
         },
       ],
-      order: [['updatedAt', 'ASC'], ['id', 'ASC']],
-      limit: REVIEW_QUEUE_LIMIT,
-    })
+    }
+  }
+
+  /** How many analyses the queue filter covers, beyond the queue's REVIEW_QUEUE_LIMIT too (the overview's count). */
+  async function count(user: SessionUser, filter: QueueFilter): Promise<ReviewQueueCountDto> {
+    const scope = queueScope(user, filter)
+    return { status: filter.status, count: scope === null ? 0 : await Analysis.count({ ...scope, distinct: true, col: 'id' }) }
+  }
+
+  /**
+   * The review queue: analyses in `status` (default 'submitted') across the person's labs, oldest first, with what
+   * they are about. Superseded ones (a newer mask was saved) are flagged, not hidden.
+   */
+  async function queue(user: SessionUser, filter: QueueFilter): Promise<ReviewQueueItemDto[]> {
+    const scope = queueScope(user, filter)
+    if (scope === null) return []
+    const rows = await Analysis.findAll({ ...scope, order: [['updatedAt', 'ASC'], ['id', 'ASC']], limit: REVIEW_QUEUE_LIMIT })
     const ids = rows.map((r) => r.id)
     const frameIds = [...new Set(rows.map((r) => r.frameId))]
     const [submits, openComments, newest, annotations] = await Promise.all([
@@ -310,7 +326,7 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
     }
   }
 
-  return { detail, transition, listComments, addComment, setCommentResolved, queue, history }
+  return { detail, transition, listComments, addComment, setCommentResolved, queue, count, history }
 }
 
 export type ReviewService = ReturnType<typeof createReviewService>

@@ -13,7 +13,7 @@ export const ANALYSIS_STATUS_LABELS: Record<AnalysisStatus, string> = {
   'changes-requested': 'Changes requested',
 }
 
-/** Most analyses one review-queue answer lists (oldest first); a count of exactly this many means "at least". */
+/** Most analyses one review-queue answer lists (oldest first); GET /reviews/count tells how many there are in all. */
 export const REVIEW_QUEUE_LIMIT = 500
 
 export const REVIEW_ACTIONS = ['submit', 'approve', 'request-changes'] as const
@@ -87,6 +87,12 @@ export interface ReviewedAnalysisDto {
 }
 
 /** A row of the review queue: the analysis and what it is about. */
+/** How many analyses a review-queue filter covers (GET /reviews/count). */
+export interface ReviewQueueCountDto {
+  status: AnalysisStatus
+  count: number
+}
+
 export interface ReviewQueueItemDto {
   analysisId: number
   status: AnalysisStatus

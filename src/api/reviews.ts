@@ -1,6 +1,6 @@
 /** The review workflow: one analysis with its state, the three steps, pinned comments, the queue and the history. */
 import type { AnalysisStatus } from '@shared/types/lab'
-import type { AnalysisHistoryDto, CommentDto, CreateCommentRequest, ReviewAction, ReviewedAnalysisDto, ReviewQueueItemDto } from '@shared/types/review'
+import type { AnalysisHistoryDto, CommentDto, CreateCommentRequest, ReviewAction, ReviewedAnalysisDto, ReviewQueueCountDto, ReviewQueueItemDto } from '@shared/types/review'
 import { http } from './http'
 
 export function getReviewedAnalysis(analysisId: number): Promise<ReviewedAnalysisDto> {
@@ -46,6 +46,11 @@ export function reviewQueueSearch(filter: ReviewQueueFilter): string {
 /** Analyses in a status across the person's labs, oldest first (at most REVIEW_QUEUE_LIMIT). */
 export function listReviewQueue(filter: ReviewQueueFilter): Promise<ReviewQueueItemDto[]> {
   return http.get<ReviewQueueItemDto[]>(`/reviews?${reviewQueueSearch(filter)}`)
+}
+
+/** How many analyses the filter covers in all (the queue itself lists at most REVIEW_QUEUE_LIMIT). */
+export function countReviewQueue(filter: ReviewQueueFilter): Promise<ReviewQueueCountDto> {
+  return http.get<ReviewQueueCountDto>(`/reviews/count?${reviewQueueSearch(filter)}`)
 }
 
 /** Workflow steps and audit events of an analysis. */

@@ -12,11 +12,11 @@ import { maskFromBase64 } from '@shared/imageio/maskEncoding'
 import type { AnalysisDto } from '@shared/types/annotation'
 import type { ImageDetailDto } from '@shared/types/image'
 import type { AnalysisStatus } from '@shared/types/lab'
-import { REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueItemDto } from '@shared/types/review'
+import { REVIEW_QUEUE_LIMIT, REVIEW_TRANSITIONS, type AnalysisHistoryDto, type CommentDto, type ReviewAction, type ReviewedAnalysisDto, type ReviewQueueItemDto } from '@shared/types/review'
 import { getAnnotation, getFrameAnalysis } from '@/api/annotations'
 import { asApiError, type ApiError } from '@/api/http'
 import { getImage } from '@/api/images'
-import { addComment, getAnalysisHistory, getReviewedAnalysis, listComments, listReviewQueue, reviewStep, setCommentResolved, type ReviewQueueFilter } from '@/api/reviews'
+import { addComment, countReviewQueue, getAnalysisHistory, getReviewedAnalysis, listComments, listReviewQueue, reviewStep, setCommentResolved, type ReviewQueueFilter } from '@/api/reviews'
 import type { LoadStatus } from './loadStatus'
 import { useSessionStore } from './session'
 
@@ -65,6 +65,8 @@ export const useReviewsStore = defineStore('reviews', () => {
   const queue = ref<ReviewQueueItemDto[]>([])
   const queueStatus = ref<LoadStatus>('idle')
   const queueError = shallowRef<ApiError | null>(null)
+  /** How many analyses the filter covers; more than `queue` holds when the queue reached REVIEW_QUEUE_LIMIT. */
+  const queueTotal = ref(0)
   const filter = ref<{ status: AnalysisStatus; projectId: number | null; labId: number | null }>({ status: 'submitted', projectId: null, labId: null })
 
   const analysis = ref<ReviewedAnalysisDto | null>(null)
@@ -89,9 +91,12 @@ export const useReviewsStore = defineStore('reviews', () => {
     const asked: ReviewQueueFilter = { ...filter.value }
     try {
       const rows = await listReviewQueue(asked)
+      // A full answer may be the oldest part of a longer queue: ask how long.
+      const total = rows.length < REVIEW_QUEUE_LIMIT ? rows.length : (await countReviewQueue(asked)).count
       // Only the answer to the latest filter counts.
       if (JSON.stringify(asked) !== JSON.stringify({ ...filter.value })) return
       queue.value = rows
+      queueTotal.value = total
       queueStatus.value = 'ready'
     } catch (e) {
       queueError.value = asApiError(e)
@@ -106,7 +111,7 @@ export const useReviewsStore = defineStore('reviews', () => {
   async function fetchWaitingCount(): Promise<void> {
     waitingStatus.value = 'loading'
     try {
-      waitingCount.value = (await listReviewQueue({ status: 'submitted' })).length
+      waitingCount.value = (await countReviewQueue({ status: 'submitted' })).count
       waitingStatus.value = 'ready'
     } catch {
       waitingStatus.value = 'error'
@@ -215,6 +220,7 @@ export const useReviewsStore = defineStore('reviews', () => {
     queue,
     queueStatus,
     queueError,
+    queueTotal,
     filter,
     analysis,
     image,

@@ -146,6 +146,19 @@ describe('review workflow', () => {
       expect(outsider.body.map((q: { analysisId: number }) => q.analysisId)).not.toContain(analysisId)
     })
 
+    it('When the queue is counted, then the count covers exactly the rows the same filter lists, and nothing of other labs', async () => {
+      for (const search of ['status=submitted', `status=submitted&projectId=${home.project.id}`, `status=submitted&labId=${home.lab.id}`, 'status=approved']) {
+        const [rows, counted] = await Promise.all([s.reviewer.agent.get(`/api/reviews?${search}`), s.reviewer.agent.get(`/api/reviews/count?${search}`)])
+        expect(counted.status).toBe(200)
+        expect(counted.body).toEqual({ status: new URLSearchParams(search).get('status'), count: rows.body.length })
+      }
+      expect((await s.reviewer.agent.get('/api/reviews/count')).body.count).toBeGreaterThanOrEqual(1)
+      const outsiderRows = await s.outsider.agent.get('/api/reviews?status=submitted')
+      expect((await s.outsider.agent.get('/api/reviews/count?status=submitted')).body.count).toBe(outsiderRows.body.length)
+      expect((await s.outsider.agent.get(`/api/reviews/count?labId=${home.lab.id}`)).body.count).toBe(0)
+      expect((await s.reviewer.agent.get('/api/reviews/count?status=finished')).status).toBe(400)
+    })
+
     it('When the reviewer pins comments, then they are listed with their point; a point off the image is refused; resolving counts down', async () => {
       const post = (body: object) => s.reviewer.agent.post(`/api/analyses/${analysisId}/comments`).set('x-csrf-token', s.reviewer.csrf).send(body)
       const pinned = await post({ body: 'Wall missed here', x: 40.5, y: 12 })

@@ -5,7 +5,6 @@ import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
 import type { LabRole } from '@shared/auth/permissions'
 import type { QueueFrameDto } from '@shared/types/annotation'
-import { REVIEW_QUEUE_LIMIT } from '@shared/types/review'
 import { createAppRouter } from '@/router'
 import OverviewNextSteps from '@/components/OverviewNextSteps.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
@@ -17,7 +16,7 @@ async function mountSteps(role: LabRole, answers: { frames?: () => Response; wai
   const requests = stubFetch({
     'GET /api/auth/me': () => jsonResponse(200, { id: 4, email: 'someone@kestrel-lab.example', name: 'Some One', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
     'GET /api/queue': answers.frames ?? (() => jsonResponse(200, [])),
-    'GET /api/reviews': answers.waiting ?? (() => jsonResponse(200, [])),
+    'GET /api/reviews/count': answers.waiting ?? (() => jsonResponse(200, { status: 'submitted', count: 0 })),
   })
   const router = createAppRouter(createMemoryHistory())
   await router.push('/')
@@ -64,15 +63,18 @@ describe('OverviewNextSteps', () => {
     expect(cardIds(wrapper)[0]).toBe('next-frames')
   })
 
-  it('When analyses wait for review, then the reviewer sees how many, and "at least" at the queue limit', async () => {
-    const waiting = (n: number) => () => jsonResponse(200, Array.from({ length: n }, (_, i) => ({ analysisId: i + 1 })))
+  it('When analyses wait for review, then the reviewer sees how many, counted by the server beyond the queue\u2019s limit', async () => {
+    const waiting = (count: number) => () => jsonResponse(200, { status: 'submitted', count })
     const some = await mountSteps('reviewer', { waiting: waiting(2) })
     expect(card(some.wrapper, 'review').text()).toContain('2')
-    expect(some.requests.some((r) => r.url.includes('/api/reviews?status=submitted'))).toBe(true)
+    expect(card(some.wrapper, 'review').text()).toContain('submitted analyses')
+    expect(some.requests.some((r) => r.url.includes('/api/reviews/count?status=submitted'))).toBe(true)
+    // The overview asks for the count only, never the queue's rows.
+    expect(some.requests.some((r) => new URL(r.url, 'http://localhost').pathname === '/api/reviews')).toBe(false)
     document.body.innerHTML = ''
     setActivePinia((pinia = createPinia()))
-    const many = await mountSteps('reviewer', { waiting: waiting(REVIEW_QUEUE_LIMIT) })
-    expect(card(many.wrapper, 'review').text()).toContain(`${REVIEW_QUEUE_LIMIT}+`)
+    const many = await mountSteps('reviewer', { waiting: waiting(734) })
+    expect(card(many.wrapper, 'review').text()).toContain('734')
   })
 
   it('When a count cannot be loaded, then its card says so and the other cards stay', async () => {
