@@ -10,8 +10,9 @@
  *    every upload was stored completely;
  * 2. for scale: the same 50 sessions with no pause at all, i.e. 50 requests always in flight — the capacity of the
  *    server on this machine, where by Little's law the mean latency is 50 / throughput.
- * Prints the latency percentiles of both (autocannon reports p97.5, which bounds p95 from above) and errors; passes
- * when phase 1 has p97.5 < 200 ms and neither phase has an error or a non-2xx answer.
+ * Prints the latency percentiles of both (phase 1 also for the answers given while the uploads ran) and errors;
+ * passes when phase 1 has p95 < 200 ms, over the whole phase and while the uploads ran, and neither phase has an error
+ * or a non-2xx answer.
  * LOAD_SERVER_NODE_ARGS passes flags to the server's node, e.g. '--cpu-prof --cpu-prof-dir=/tmp/load-profile' to see
  * where its time goes.
  */
@@ -22,6 +23,7 @@ import { hashPassword } from '../server/auth/passwords'
 import { Frame, Image } from '../server/models'
 import { encodeTiff } from '../shared/imageio/encodeTiff'
 import { renderFieldSweep } from './sampleImages'
+import { latencySummary, type LatencySummary } from './latencyHistogram'
 import { ANALYSIS_PROCESS_ENV, freePort, waitForPort, WEB_SERVER_NODE_FLAGS } from './processes'
 import { startThrowawayServices } from './throwawayServices'
 
@@ -116,34 +118,50 @@ function backToBack(seconds: number): Promise<autocannon.Result> {
   } as never) as unknown as Promise<autocannon.Result>
 }
 
+/** One answer of the paced phase: when it arrived (performance.now(), ms) and how long it took, ms. */
+interface Answer {
+  at: number
+  ms: number
+}
+
 /**
  * People: each session is an autocannon instance of one connection sending USER_RATE requests a second (the next
  * only after the last was answered), the instances started evenly over the first second so that 50 people do not
  * click in step (autocannon's rate timer would otherwise fire every connection of one instance in the same
- * millisecond: a burst of 50 each second). Latencies are corrected for coordinated omission (a late answer also
- * delays the requests that should have followed it) and the instances' histograms merged.
+ * millisecond: a burst of 50 each second). Every 2xx answer is kept with its time, so that the answers given while the
+ * uploads ran can be told apart; percentiles come from latencySummary.
  */
-async function pacedUsers(seconds: number): Promise<autocannon.Result> {
+async function pacedUsers(seconds: number): Promise<{ result: autocannon.Result; answers: Answer[] }> {
   const options = { url, connections: USERS }
+  const answers: Answer[] = []
   const runs = sessions.map(async (session, k) => {
     await new Promise((resolve) => setTimeout(resolve, (1000 * k) / USERS))
-    return autocannon({
+    const instance = autocannon({
       url,
       connections: 1,
       connectionRate: USER_RATE,
+      // Its histograms are not used for the percentiles (see latencySummary for why).
+      ignoreCoordinatedOmission: true,
       duration: seconds,
       skipAggregateResult: true,
       headers: { cookie: session.cookie },
       requests: endpoints,
-    } as never) as unknown as Promise<autocannon.Result>
+    } as never) as unknown as Promise<autocannon.Result> & NodeJS.EventEmitter
+    instance.on('response', (_client: unknown, statusCode: number, _bytes: number, ms: number) => {
+      if (statusCode >= 200 && statusCode < 300) answers.push({ at: performance.now(), ms })
+    })
+    return instance
   })
-  return (autocannon as unknown as { aggregateResult(results: autocannon.Result[], opts: object): autocannon.Result }).aggregateResult(await Promise.all(runs), options)
+  const results = await Promise.all(runs)
+  const result = (autocannon as unknown as { aggregateResult(results: autocannon.Result[], opts: object): autocannon.Result }).aggregateResult(results, options)
+  return { result, answers }
 }
 
-const summarize = (result: autocannon.Result) => ({
+/** Counts, rates and latency percentiles of a phase (autocannon's, or `latencies` when given). */
+const summarize = (result: autocannon.Result, latencies?: LatencySummary) => ({
   requests: result.requests.total,
   requestsPerSecond: Math.round(result.requests.total / SECONDS),
-  latencyMs: { p50: result.latency.p50, p90: result.latency.p90, p97_5: result.latency.p97_5, p99: result.latency.p99, max: result.latency.max },
+  latencyMs: latencies ?? { p50: result.latency.p50, p90: result.latency.p90, p97_5: result.latency.p97_5, p99: result.latency.p99, max: result.latency.max },
   errors: result.errors,
   timeouts: result.timeouts,
   non2xx: result.non2xx,
@@ -176,8 +194,13 @@ failures.clear()
 // Phase 1, the target: 50 people at a person's pace while 5 stack uploads run.
 console.log(`[load] 50 users, ${USER_RATE} request(s) per second each, ${SECONDS} s, with 5 stack uploads…`)
 const paced = pacedUsers(SECONDS)
-const uploads = uploadForms.map(upload)
-const [result, uploaded] = await Promise.all([paced, Promise.all(uploads)])
+const uploadsStarted = performance.now()
+const uploads = Promise.all(uploadForms.map(upload)).then((answers) => ({ answers, finished: performance.now() }))
+const [{ result, answers }, { answers: uploaded, finished: uploadsFinished }] = await Promise.all([paced, uploads])
+const personInterval = 1000 / USER_RATE
+const whole = latencySummary(answers.map((a) => a.ms), personInterval)
+// The answers given while the uploads ran (the target's hardest seconds), on their own.
+const duringUploads = latencySummary(answers.filter((a) => a.at >= uploadsStarted && a.at <= uploadsFinished).map((a) => a.ms), personInterval)
 const pacedFailures = Object.fromEntries(failures)
 failures.clear()
 // Phase 2, for scale: the same 50 sessions with no pause between requests (the server's capacity on this machine).
@@ -195,7 +218,7 @@ const report = {
   seconds: SECONDS,
   users: USERS,
   perUserRequestsPerSecond: USER_RATE,
-  paced: { ...summarize(result), failures: pacedFailures },
+  paced: { ...summarize(result, whole), duringUploads: { seconds: Math.round(uploadsFinished - uploadsStarted) / 1000, latencyMs: duringUploads }, failures: pacedFailures },
   stackUploads: { started: 5, storedCompletely: complete },
   backToBack: { ...summarize(saturated), failures: Object.fromEntries(failures) },
 }
@@ -204,6 +227,6 @@ for (const u of uploaded) if (u.status !== 201) console.log(`[load] an upload an
 server.kill('SIGTERM')
 await new Promise((resolve) => server.once('exit', resolve))
 await services.close()
-const ok = report.paced.latencyMs.p97_5 < 200 && result.errors === 0 && result.non2xx === 0 && complete === 5 && saturated.errors === 0 && saturated.non2xx === 0
-console.log(ok ? '[load] PASS: paced p97.5 < 200 ms (so p95 too), no errors in either phase, all 5 stacks stored completely' : '[load] FAIL: see the figures above')
+const ok = whole.p95 < 200 && duringUploads.p95 < 200 && result.errors === 0 && result.non2xx === 0 && complete === 5 && saturated.errors === 0 && saturated.non2xx === 0
+console.log(ok ? '[load] PASS: paced p95 < 200 ms, over the whole phase and while the uploads ran; no errors in either phase, all 5 stacks stored completely' : '[load] FAIL: see the figures above')
 process.exit(ok ? 0 : 1)
