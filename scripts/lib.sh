@@ -1,11 +1,13 @@
 #!/usr/bin/env bash
 # Shared steps of scripts/start.sh and scripts/test.sh.
 
-# Install npm dependencies from the lockfile when node_modules is missing or older than the lockfile.
+# Install npm dependencies from the lockfile when node_modules is missing or older than the lockfile. No package's
+# install script runs: the one that would matter (skia-canvas, optional, unused) downloads from outside the registry,
+# and esbuild's only checks the binary its platform package already holds (tests/scripts/supplyChain.test.ts).
 ensure_node_modules() {
   if [ ! -d node_modules ] || [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
-    echo "[setup] installing npm dependencies (npm ci)"
-    npm ci --no-audit --no-fund
+    echo "[setup] installing npm dependencies (npm ci --ignore-scripts)"
+    npm ci --ignore-scripts --no-audit --no-fund
   fi
 }
 
