@@ -121,7 +121,7 @@ export function registerInvitationRoutes(api: ApiDefinition, invitations: Invita
   apiRoute(api, {
     method: 'patch',
     path: '/labs/:labId/members/:userId',
-    summary: 'Change a member\u2019s role or (de)activate them; deactivated members keep their work but lose access. The last active admin/PI cannot be demoted or deactivated. Audited.',
+    summary: 'Change a member\u2019s role or (de)activate them; deactivated members keep their work but lose access. The last active admin/PI cannot be demoted or deactivated, and nobody deactivates themselves. Audited.',
     tags: ['labs'],
     access: 'signed-in',
     params: labParams.extend({ userId: z.coerce.number().int().positive() }),
@@ -130,7 +130,7 @@ export function registerInvitationRoutes(api: ApiDefinition, invitations: Invita
       200: { description: 'The member after the change', schema: MemberSchema },
       403: { description: 'Role may not manage the lab' },
       404: { description: 'No such lab or member' },
-      409: { description: 'Would leave the lab without an active admin/PI (last-manager)' },
+      409: { description: 'Would leave the lab without an active admin/PI (last-manager), or deactivates the caller (own-membership)' },
     },
     handler: (req, _res, { params, body }) => invitations.updateMember(currentUser(req), params.labId, params.userId, body),
   })

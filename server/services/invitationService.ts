@@ -191,10 +191,15 @@ export function createInvitationService(deps: { sequelize: Sequelize; mailer: Ma
   /**
    * Change a member's role or deactivate/re-activate them. Deactivation keeps everything they made (masks, analyses,
    * reviews stay attributed) and only removes their access to this lab.
-   * @throws 409 `last-manager` when the change would leave the lab without an active administrator or PI.
+   * @throws 409 `own-membership` when a person deactivates themselves (they would be locked out at once; another
+   * administrator or PI can do it), 409 `last-manager` when the change would leave the lab without an active
+   * administrator or PI.
    */
   async function updateMember(user: SessionUser, labId: number, userId: number, patch: { role?: LabRole; active?: boolean }): Promise<LabMemberDto> {
     await labFor(user, labId)
+    if (userId === user.id && patch.active === false) {
+      throw new AppError(409, 'own-membership', 'You cannot deactivate yourself: another administrator or principal investigator of the lab can.')
+    }
     return sequelize.transaction(async (transaction) => {
       // Lock the lab row: two managers demoting each other at the same moment must not both succeed.
       await Lab.findByPk(labId, { transaction, lock: transaction.LOCK.UPDATE })

@@ -66,6 +66,15 @@ export const useSessionStore = defineStore('session', () => {
     return restoring
   }
 
+  /** Ask the server again who is signed in (after a change to the person's own roles); a failure keeps what we had. */
+  async function refresh(): Promise<void> {
+    try {
+      setUser(await getCurrentUser())
+    } catch (e) {
+      if (isApiError(e) && e.status === 401) clear()
+    }
+  }
+
   /** Throws `ApiError` (401 wrong credentials, 423 locked, 429 rate limited) for the sign-in form to show. */
   async function signIn(credentials: Credentials): Promise<void> {
     setUser(await login(credentials))
@@ -87,5 +96,5 @@ export const useSessionStore = defineStore('session', () => {
     status.value = 'ready'
   }
 
-  return { user, status, error, isSignedIn, memberships, roles, can, canDeleteImage, restore, signIn, signOut, clear }
+  return { user, status, error, isSignedIn, memberships, roles, can, canDeleteImage, restore, refresh, signIn, signOut, clear }
 })

@@ -230,6 +230,20 @@ describe('lab collaboration: invitations, members, password reset, unlock', () =
       expect((await patch(lab.people.pi.id, { role: 'annotator' })).status).toBe(200)
     })
 
+    it('When a manager deactivates themselves, then 409 own-membership and nothing changes; another manager may', async () => {
+      const lab = await createLabWithRoles('OwnMembership')
+      const pi = await signIn(ctx.app, lab.people.pi.email)
+      const admin = await signIn(ctx.app, lab.people.admin.email)
+      const self = await pi.agent.patch(`/api/labs/${lab.lab.id}/members/${lab.people.pi.id}`).set('x-csrf-token', pi.csrf).send({ active: false })
+      expect(self.status).toBe(409)
+      expect(self.body.error.code).toBe('own-membership')
+      expect((await Membership.findOne({ where: { labId: lab.lab.id, userId: lab.people.pi.id } }))!.active).toBe(true)
+      expect((await pi.agent.get(`/api/labs/${lab.lab.id}/members`)).status).toBe(200)
+      const byOther = await admin.agent.patch(`/api/labs/${lab.lab.id}/members/${lab.people.pi.id}`).set('x-csrf-token', admin.csrf).send({ active: false })
+      expect(byOther.status).toBe(200)
+      expect(byOther.body.active).toBe(false)
+    })
+
     it('When an annotator tries to change a role, then 403', async () => {
       const session = await signIn(ctx.app, home.people.annotator.email)
       const res = await session.agent.patch(`/api/labs/${home.lab.id}/members/${home.people.reviewer.id}`).set('x-csrf-token', session.csrf).send({ role: 'admin' })

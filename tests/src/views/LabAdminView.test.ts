@@ -7,33 +7,45 @@ import type { InvitationDto } from '@shared/types/invitation'
 import type { LabMemberDto } from '@shared/types/user'
 import { createAppRouter } from '@/router'
 import LabAdminView from '@/views/LabAdminView.vue'
+import LabAdminMembersTable from '@/components/LabAdminMembersTable.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
 import { alertTexts } from '../domQueries'
 
 let pinia: Pinia
 
+/** The signed-in person is Noor (9), the lab's administrator. */
+const ME = 9
 const MEMBERS: LabMemberDto[] = [
   { userId: 7, name: 'Elena Varga', email: 'elena@x.example', role: 'pi', active: true },
   { userId: 8, name: 'Priya Raman', email: 'priya@x.example', role: 'annotator', active: true },
+  { userId: ME, name: 'Noor Haddad', email: 'noor@x.example', role: 'admin', active: true },
 ]
 
 function invitation(overrides: Partial<InvitationDto>): InvitationDto {
   return { id: 1, labId: 1, email: 'new@x.example', role: 'reviewer', invitedBy: { id: 7, name: 'Elena Varga' }, expiresAt: '2999-01-01T00:00:00Z', usedAt: null, revokedAt: null, createdAt: '2026-03-01T10:00:00Z', ...overrides }
 }
 
-async function mountAdmin(patch: () => Response) {
+/** `patch` answers changes to Elena (7), `patchMe` changes to the signed-in person, whose role `/auth/me` then reports. */
+async function mountAdmin(patch: () => Response, patchMe?: (role: string) => Response) {
+  let myRole = 'admin'
   const requests = stubFetch({
-    'GET /api/auth/me': () => jsonResponse(200, { id: 7, email: 'elena@x.example', name: 'Elena Varga', memberships: [{ labId: 1, labName: 'Kestrel Lab', role: 'pi' }], csrfToken: 't' }),
+    'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'noor@x.example', name: 'Noor Haddad', memberships: [{ labId: 1, labName: 'Kestrel Lab', role: myRole }], csrfToken: 't' }),
     'GET /api/health': () => jsonResponse(200, { db: 'up', storage: 'up', mail: 'up' }),
     'GET /api/labs/1/members': () => jsonResponse(200, MEMBERS),
     'GET /api/labs/1/invitations': () => jsonResponse(200, [invitation({ id: 1 }), invitation({ id: 2, email: 'gone@x.example', usedAt: '2026-03-02T10:00:00Z' })]),
     'PATCH /api/labs/1/members/7': patch,
+    [`PATCH /api/labs/1/members/${ME}`]: (request) => {
+      const role = (request.body as { role: string }).role
+      const answer = patchMe ? patchMe(role) : jsonResponse(500)
+      if (answer.ok) myRole = role
+      return answer
+    },
   })
   const router = createAppRouter(createMemoryHistory())
   await router.push('/lab-admin')
   const wrapper = mount(LabAdminView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
   await flushPromises()
-  return { wrapper, requests }
+  return { wrapper, requests, router }
 }
 
 /** Element Plus puts the confirm box at the end of the body, outside the mounted component. */
@@ -82,6 +94,34 @@ describe('LabAdminView', () => {
     await wrapper.get('button[aria-label="Deactivate Elena Varga"]').trigger('click')
     await confirmBox('Deactivate')
     await vi.waitFor(() => expect(wrapper.find('button[aria-label="Reactivate Elena Varga"]').exists()).toBe(true))
+  })
+
+  it('When the list shows the signed-in person, then their row offers no Deactivate (another manager can)', async () => {
+    const { wrapper } = await mountAdmin(() => jsonResponse(500))
+    expect(wrapper.find('button[aria-label="Deactivate Noor Haddad"]').exists()).toBe(false)
+    expect(wrapper.find('button[aria-label="Deactivate Priya Raman"]').exists()).toBe(true)
+    const ownRow = wrapper.findAll('tbody tr').find((row) => row.text().includes('Noor Haddad'))!
+    expect(ownRow.find('[title^="Another administrator"]').exists()).toBe(true)
+  })
+
+  it('When a manager makes themselves an annotator, then they confirm first, and afterwards the session follows and the page closes', async () => {
+    const { wrapper, requests, router } = await mountAdmin(() => jsonResponse(500), (role) => jsonResponse(200, { ...MEMBERS[2], role }))
+    // The members table asks for the change as its role select does.
+    wrapper.findComponent(LabAdminMembersTable).vm.$emit('changeRole', MEMBERS[2], 'annotator')
+    await flushPromises()
+    expect(document.querySelector('.el-message-box')?.textContent).toContain('Make yourself Annotator?')
+    await confirmBox('Become Annotator')
+    await vi.waitFor(() => expect(router.currentRoute.value.name).toBe('overview'))
+    expect(requests.find((r) => r.method === 'PATCH')?.body).toEqual({ role: 'annotator' })
+    expect(requests.filter((r) => r.url.endsWith('/api/auth/me')).length).toBeGreaterThanOrEqual(2)
+  })
+
+  it('When a manager cancels making themselves an annotator, then nothing is sent', async () => {
+    const { wrapper, requests } = await mountAdmin(() => jsonResponse(500), (role) => jsonResponse(200, { ...MEMBERS[2], role }))
+    wrapper.findComponent(LabAdminMembersTable).vm.$emit('changeRole', MEMBERS[2], 'annotator')
+    await flushPromises()
+    await confirmBox('Cancel')
+    expect(requests.some((r) => r.method === 'PATCH')).toBe(false)
   })
 
   it('When the invite dialog opens, then every role is offered with what it may do', async () => {
