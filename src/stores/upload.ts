@@ -6,6 +6,7 @@
 import { computed, ref, watch } from 'vue'
 import { defineStore } from 'pinia'
 import type { UploadedImageDto } from '@shared/types/image'
+import { IMAGE_DECODE_ERROR_STATUS } from '@shared/imageio/imageDecodeError'
 import { asApiError } from '@/api/http'
 import { uploadImage, type UploadFields } from '@/api/images'
 import { useSessionStore } from './session'
@@ -35,6 +36,17 @@ export interface UploadItem {
   total: number
   result: UploadedImageDto | null
   error: { code: string; message: string } | null
+}
+
+/**
+ * Failures that are about the file's own bytes (not an image, damaged, empty, over the size or pixel limits): sending
+ * the same file again gets the same answer, so the queue offers to remove it instead of a retry. Anything else — no
+ * answer, the store or database down, a refused CSV or sample that the form can fix — may go through next time.
+ */
+const FILE_CONTENT_FAILURES = new Set<string>([...Object.keys(IMAGE_DECODE_ERROR_STATUS), 'file-too-large'])
+
+export function retryCanHelp(error: { code: string } | null): boolean {
+  return error === null || !FILE_CONTENT_FAILURES.has(error.code)
 }
 
 /** Requests in flight at once: enough to keep the line busy while the server checks the previous file. */

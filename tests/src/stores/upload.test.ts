@@ -3,7 +3,7 @@ import { flushPromises } from '@vue/test-utils'
 import { createPinia, setActivePinia } from 'pinia'
 import type { UploadedImageDto } from '@shared/types/image'
 import { setCsrfToken, setUnauthorizedHandler } from '@/api/http'
-import { MAX_PARALLEL_UPLOADS, useUploadStore, type UploadTarget } from '@/stores/upload'
+import { MAX_PARALLEL_UPLOADS, retryCanHelp, useUploadStore, type UploadTarget } from '@/stores/upload'
 import { stubXhr, type FakeXhr } from '../fakeXhr'
 
 const TARGET: UploadTarget = {
@@ -135,6 +135,21 @@ describe('useUploadStore', () => {
     upload.start(TARGET)
     expect(requests).toHaveLength(2)
     expect(upload.items[0].status).toBe('uploading')
+  })
+
+  it.each([
+    { code: 'unsupported-type', helps: false },
+    { code: 'corrupt-image', helps: false },
+    { code: 'empty-file', helps: false },
+    { code: 'image-too-large', helps: false },
+    { code: 'too-many-frames', helps: false },
+    { code: 'file-too-large', helps: false },
+    { code: 'storage-unavailable', helps: true },
+    { code: 'network-error', helps: true },
+    { code: 'invalid-frames-csv', helps: true },
+    { code: 'sample-not-in-project', helps: true },
+  ])('When an upload failed with $code, then a retry can help: $helps', ({ code, helps }) => {
+    expect(retryCanHelp({ code })).toBe(helps)
   })
 
   it('When a CSV comes with its stack, then it is attached by name and sent as the frames part', () => {
