@@ -14,7 +14,7 @@ async function mountFailed(code: string, message: string) {
   upload.addFiles([new File([new Uint8Array(17)], 'sample.tif')])
   Object.assign(upload.items[0], { status: 'failed', error: { code, message } })
   // Only what the table links to; the app's router would sign someone in first.
-  const router = createRouter({ history: createMemoryHistory(), routes: [{ path: '/images/:imageId', name: 'image-detail', component: { render: () => null } }] })
+  const router = createRouter({ history: createMemoryHistory(), routes: [{ path: '/', component: { render: () => null } }, { path: '/images/:imageId', name: 'image-detail', component: { render: () => null } }] })
   const wrapper = mount(UploadQueueTable, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
   await flushPromises()
   return { wrapper, upload }
