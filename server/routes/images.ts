@@ -30,6 +30,7 @@ const SummarySchema = UploadedSchema.extend({
   createdAt: z.string(),
   acquiredAt: z.string().nullable(),
   annotationStatus: z.enum(['new', 'in-progress', 'submitted']),
+  approvedFrameCount: z.number().int(),
 })
 const FrameSchema = z.object({
   id: z.number().int(),

@@ -265,7 +265,7 @@ export function createImageService(deps: ImageServiceDeps) {
     const frames = await Frame.findAll({ where: { imageId }, order: [['index', 'ASC']], include: [{ model: User, as: 'assignee', attributes: ['id', 'name'] }] })
     const sample = (image as unknown as { Sample: Sample | null }).Sample
     return {
-      ...toSummaryDto(image, imageAnnotationStatus(frames.map((f) => f.annotationStatus))),
+      ...toSummaryDto(image, imageAnnotationStatus(frames.map((f) => f.annotationStatus)), await approvedFrameCount(image.id)),
       notes: image.notes,
       pixelSizeSource: image.pixelSizeSource,
       mediaType: image.mediaType,
@@ -299,7 +299,12 @@ export function createImageService(deps: ImageServiceDeps) {
     const rows = await sequelize.query<ImageListRow>(sql, { replacements, type: QueryTypes.SELECT })
     // A page past the end has no row to carry the total: count on its own then.
     const total = rows.length > 0 || query.page === 1 ? Number(rows[0]?.totalCount ?? 0) : await countImages(labIds, query)
-    return { items: rows.map((row) => toSummaryDto(row, row.annotationStatus)), total, page: query.page, pageSize: query.pageSize }
+    return { items: rows.map((row) => toSummaryDto(row, row.annotationStatus, Number(row.approvedFrameCount))), total, page: query.page, pageSize: query.pageSize }
+  }
+
+  async function approvedFrameCount(imageId: number): Promise<number> {
+    const [row] = await sequelize.query<{ n: string }>(`SELECT ${APPROVED_FRAMES_SQL} AS n FROM images AS "Image" WHERE "Image".id = :imageId`, { replacements: { imageId }, type: QueryTypes.SELECT })
+    return Number(row?.n ?? 0)
   }
 
   async function countImages(labIds: number[], query: ImageListQuery): Promise<number> {
@@ -400,6 +405,13 @@ const ANNOTATION_STATUS_SQL = `(SELECT CASE WHEN bool_and(f.annotation_status = 
   WHEN bool_or(f.annotation_status <> 'new') THEN 'in-progress' ELSE 'new' END
   FROM frames AS f WHERE f.image_id = "Image"."id")`
 
+/**
+ * How many of an image's frames have an approved analysis as their newest one (a mask edited after approval makes a
+ * newer draft, which needs review again, so that frame no longer counts).
+ */
+const APPROVED_FRAMES_SQL = `(SELECT count(*) FROM frames AS f WHERE f.image_id = "Image"."id"
+  AND (SELECT a.status FROM analyses AS a WHERE a.frame_id = f.id ORDER BY a.id DESC LIMIT 1) = 'approved')`
+
 export interface ImageListQuery {
   projectId?: number
   sampleId?: number
@@ -455,7 +467,7 @@ function imageListQuery(labIds: number[], query: ImageListQuery): { sql: string;
       "Image".frame_count AS "frameCount", "Image".cover_frame_index AS "coverFrameIndex", "Image".pixel_size_nm AS "pixelSizeNm", "Image".project_id AS "projectId",
       "Image".sample_id AS "sampleId", "Image".uploaded_by_id AS "uploadedById", "Image".technique,
       "Image".created_at AS "createdAt", "Image".acquired_at AS "acquiredAt", page.total_count AS "totalCount",
-      ${ANNOTATION_STATUS_SQL} AS "annotationStatus"
+      ${ANNOTATION_STATUS_SQL} AS "annotationStatus", ${APPROVED_FRAMES_SQL} AS "approvedFrameCount"
     FROM page JOIN images AS "Image" ON "Image".id = page.id
     ORDER BY page.sort_key ${direction}, page.id ASC`
   return { sql, replacements: { ...replacements, limit: query.pageSize, offset: (query.page - 1) * query.pageSize } }
@@ -464,9 +476,9 @@ function imageListQuery(labIds: number[], query: ImageListQuery): { sql: string;
 /** The image columns a list row shows: a model instance and a row of `imageListQuery` both have them. */
 type ImageSummaryFields = Pick<Image, 'id' | 'name' | 'sha256' | 'width' | 'height' | 'bitDepth' | 'frameCount' | 'coverFrameIndex' | 'pixelSizeNm' | 'projectId' | 'sampleId' | 'uploadedById' | 'technique' | 'createdAt' | 'acquiredAt'>
 
-type ImageListRow = ImageSummaryFields & { totalCount: string; annotationStatus: FrameAnnotationStatus }
+type ImageListRow = ImageSummaryFields & { totalCount: string; annotationStatus: FrameAnnotationStatus; approvedFrameCount: string }
 
-function toSummaryDto(image: ImageSummaryFields, annotationStatus: FrameAnnotationStatus): ImageSummaryDto {
+function toSummaryDto(image: ImageSummaryFields, annotationStatus: FrameAnnotationStatus, approvedFrameCount: number): ImageSummaryDto {
   return {
     ...toUploadedDto(image),
     coverFrameIndex: image.coverFrameIndex,
@@ -477,5 +489,6 @@ function toSummaryDto(image: ImageSummaryFields, annotationStatus: FrameAnnotati
     createdAt: image.createdAt.toISOString(),
     acquiredAt: image.acquiredAt ? image.acquiredAt.toISOString() : null,
     annotationStatus,
+    approvedFrameCount,
   }
 }

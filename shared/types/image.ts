@@ -26,6 +26,8 @@ export interface ImageSummaryDto extends UploadedImageDto {
   createdAt: string
   acquiredAt: string | null
   annotationStatus: FrameAnnotationStatus
+  /** Frames whose newest analysis is approved (review), of frameCount. */
+  approvedFrameCount: number
 }
 
 export interface FrameDto {

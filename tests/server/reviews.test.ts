@@ -42,6 +42,13 @@ describe('review workflow', () => {
   const act = (who: Session, analysisId: number, action: ReviewAction, message?: string) =>
     who.agent.post(`/api/analyses/${analysisId}/${action}`).set('x-csrf-token', who.csrf).send(action === 'request-changes' ? { message: message ?? 'Please redo the walls near the edge.' } : message ? { message } : {})
 
+  /** approvedFrameCount of the review image, as the image list and the image page give it. */
+  const approvedFrames = async () => {
+    const listed = await s.reviewer.agent.get(`/api/images?projectId=${home.project.id}&pageSize=100`)
+    const detail = await s.reviewer.agent.get(`/api/images/${imageId}`)
+    return { listed: listed.body.items.find((i: { id: number }) => i.id === imageId).approvedFrameCount, detail: detail.body.approvedFrameCount }
+  }
+
   /** A fresh analysis in `status` that is the newest of its frame (so only the state machine decides). */
   const analysisIn = async (status: AnalysisStatus) =>
     Analysis.create({ frameId: base.frameId, annotationId: base.annotationId, recipe: base.recipe, engineVersion: base.engineVersion, results: base.results, status, createdById: base.createdById, approvedById: null, approvedAt: null, error: null })
@@ -201,6 +208,8 @@ describe('review workflow', () => {
       expect(stored.approvedById).toBe(home.people.reviewer.id)
       expect(stored.approvedAt!.toISOString()).toBe(res.body.approvedAt)
       await waitForMail(home.people.annotator.email, /Approved: review-maze\.tif, frame 0/)
+      // The image list and page count frames whose newest analysis is approved: one of the two.
+      expect(await approvedFrames()).toEqual({ listed: 1, detail: 1 })
 
       const history = await s.annotator.agent.get(`/api/analyses/${analysisId}/history`)
       expect(history.status).toBe(200)
@@ -226,6 +235,8 @@ describe('review workflow', () => {
       const edited = await saveAutoMask(s.annotator, frameId, frames[1], PIXEL_NM, (await latestVersion(frameId))!)
       expect(edited.id).not.toBe(analysisId)
       expect(edited.status).toBe('draft')
+      // The newer mask needs review: the frame no longer counts as approved.
+      expect(await approvedFrames()).toEqual({ listed: 0, detail: 0 })
       const after = (await Analysis.findByPk(analysisId))!.get({ plain: true })
       expect(after).toEqual(before)
       const old = await s.reviewer.agent.get(`/api/analyses/${analysisId}`)
@@ -237,6 +248,7 @@ describe('review workflow', () => {
       expect(queue.body.map((q: { analysisId: number }) => q.analysisId)).toContain(edited.id)
       expect((await act(s.reviewer, edited.id, 'approve')).status).toBe(200)
       expect((await Analysis.findByPk(analysisId))!.status).toBe('approved')
+      expect(await approvedFrames()).toEqual({ listed: 1, detail: 1 })
     })
 
     it('When a submitted analysis is superseded by a newer mask, then approving it is refused with 409 analysis-superseded', async () => {

@@ -23,6 +23,7 @@ function summary(id: number, name: string): ImageSummaryDto {
     createdAt: '2026-03-02T10:00:00.000Z',
     acquiredAt: null,
     annotationStatus: 'new',
+    approvedFrameCount: 0,
   }
 }
 

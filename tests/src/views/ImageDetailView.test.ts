@@ -32,6 +32,7 @@ function detail(uploadedById: number | null): ImageDetailDto {
     createdAt: '2026-03-01T09:00:00Z',
     acquiredAt: null,
     annotationStatus: 'new',
+    approvedFrameCount: 0,
     notes: '',
     pixelSizeSource: null,
     mediaType: 'image/tiff',

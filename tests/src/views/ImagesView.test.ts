@@ -31,10 +31,16 @@ function summary(id: number, name: string, uploadedById: number | null): ImageSu
     createdAt: '2026-03-02T10:00:00.000Z',
     acquiredAt: null,
     annotationStatus: 'new',
+    approvedFrameCount: 0,
   }
 }
 
-const IMAGES = [summary(1, 'mine.tif', ME), summary(2, 'colleague.tif', COLLEAGUE), summary(3, 'former-member.tif', null)]
+const IMAGES = [
+  summary(1, 'mine.tif', ME),
+  // Reviewed: a stack with 3 of 41 frames approved, and an approved single frame.
+  { ...summary(2, 'colleague.tif', COLLEAGUE), frameCount: 41, annotationStatus: 'submitted' as const, approvedFrameCount: 3 },
+  { ...summary(3, 'former-member.tif', null), annotationStatus: 'submitted' as const, approvedFrameCount: 1 },
+]
 
 async function mountImages(role: LabRole) {
   stubFetch({
@@ -80,5 +86,13 @@ describe('ImagesView delete buttons', () => {
     const wrapper = await mountImages('annotator')
     expect(wrapper.text()).toContain('mine.tif')
     expect(deletableNames(wrapper)).toEqual([])
+  })
+})
+
+describe('ImagesView review state', () => {
+  it('When frames of an image are approved, then its row says how many; an image without approvals says nothing', async () => {
+    const wrapper = await mountImages('reviewer')
+    const approved = wrapper.findAll('tbody tr').map((row) => row.find('[data-testid="approved-frames"]')).map((cell) => (cell.exists() ? cell.text() : null))
+    expect(approved).toEqual([null, '3 of 41 approved', 'approved'])
   })
 })
