@@ -118,6 +118,18 @@ export function comparisonChartData(result: ComparisonResultDto): ComparisonChar
   return data
 }
 
+/** Where this browser remembers the project last compared, to offer it again when the page opens with an empty form. */
+export const LAST_COMPARED_PROJECT_KEY = 'remanence.compare-project'
+
+function rememberedProject(): number | null {
+  try {
+    const id = Number(window.localStorage.getItem(LAST_COMPARED_PROJECT_KEY))
+    return Number.isInteger(id) && id > 0 ? id : null
+  } catch {
+    return null
+  }
+}
+
 const DEFAULT_FORM: ComparisonForm = { projectId: null, sampleIds: [], measure: 'meanWidth', groupBy: 'annealTemperatureC', includeDrafts: false }
 
 export const useComparisonStore = defineStore('comparison', () => {
@@ -157,11 +169,29 @@ export const useComparisonStore = defineStore('comparison', () => {
       resultQuery.value = asked
       view.value = null
       status.value = 'ready'
+      if (form.value.projectId !== null) {
+        try {
+          window.localStorage.setItem(LAST_COMPARED_PROJECT_KEY, String(form.value.projectId))
+        } catch {
+          // Not remembered; the next visit starts with an empty form.
+        }
+      }
     } catch (e) {
       if (mine !== sequence) return
       error.value = asApiError(e)
       status.value = 'error'
     }
+  }
+
+  /**
+   * An empty form (no project, no samples) gets a project to start from: the one compared last in this browser if the
+   * person still sees it, else the only one they see. `projectIds`: the projects the person sees.
+   */
+  function preselectProject(projectIds: number[]): void {
+    if (form.value.projectId !== null || form.value.sampleIds.length > 0) return
+    const last = rememberedProject()
+    const choice = last !== null && projectIds.includes(last) ? last : projectIds.length === 1 ? projectIds[0] : null
+    if (choice !== null) form.value.projectId = choice
   }
 
   /** Open a saved view: its query fills the form and its re-computed result is shown. */
@@ -234,5 +264,5 @@ export const useComparisonStore = defineStore('comparison', () => {
   const session = useSessionStore()
   watch(() => session.user?.id, reset)
 
-  return { form, query, result, resultQuery, chart, stale, exportScope, status, error, saved, savedStatus, savedError, view, compute, openView, fetchSaved, save, removeSaved, reset }
+  return { form, query, result, resultQuery, chart, stale, exportScope, status, error, saved, savedStatus, savedError, view, compute, preselectProject, openView, fetchSaved, save, removeSaved, reset }
 })

@@ -1,7 +1,7 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import type { ComparisonGroupDto, ComparisonResultDto, ComparisonValueDto } from '@shared/types/comparison'
-import { comparisonChartData, comparisonQuery, creepFitText, jitterOffset, measureLabel, useComparisonStore } from '@/stores/comparison'
+import { comparisonChartData, comparisonQuery, creepFitText, jitterOffset, LAST_COMPARED_PROJECT_KEY, measureLabel, useComparisonStore } from '@/stores/comparison'
 import { jsonResponse, stubFetch } from '../fakeApi'
 
 function value(v: number, draft = false, frameIndex = 0): ComparisonValueDto {
@@ -208,5 +208,44 @@ describe('useComparisonStore', () => {
     expect(requests[1].body).toEqual({ name: 'Mine', query: { projectId: 4, measure: 'meanWidth', groupBy: 'annealTemperatureC', includeDrafts: false } })
     expect(store.saved.map((s) => s.id)).toEqual([8])
     expect(store.view?.id).toBe(8)
+  })
+
+  it('When a project was compared, then a later empty form starts from it, while the person still sees it', async () => {
+    window.localStorage.removeItem(LAST_COMPARED_PROJECT_KEY)
+    stubFetch({ 'POST /api/comparisons/compute': () => jsonResponse(200, RESULT) })
+    const first = useComparisonStore()
+    first.form.projectId = 4
+    await first.compute()
+    expect(window.localStorage.getItem(LAST_COMPARED_PROJECT_KEY)).toBe('4')
+
+    // A later visit (a fresh store, as after a reload).
+    setActivePinia(createPinia())
+    const later = useComparisonStore()
+    later.preselectProject([2, 4, 7])
+    expect(later.form.projectId).toBe(4)
+
+    setActivePinia(createPinia())
+    const elsewhere = useComparisonStore()
+    elsewhere.preselectProject([2, 7])
+    expect(elsewhere.form.projectId).toBeNull()
+    window.localStorage.removeItem(LAST_COMPARED_PROJECT_KEY)
+  })
+
+  it('When nothing was compared here, then the only project is chosen, several are left to the person, and a filled form is kept', () => {
+    window.localStorage.removeItem(LAST_COMPARED_PROJECT_KEY)
+    const only = useComparisonStore()
+    only.preselectProject([9])
+    expect(only.form.projectId).toBe(9)
+
+    setActivePinia(createPinia())
+    const several = useComparisonStore()
+    several.preselectProject([2, 9])
+    expect(several.form.projectId).toBeNull()
+
+    setActivePinia(createPinia())
+    const chosen = useComparisonStore()
+    chosen.form.sampleIds = [5]
+    chosen.preselectProject([9])
+    expect(chosen.form.projectId).toBeNull()
   })
 })
