@@ -224,9 +224,10 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
 
   /**
    * Which analyses a queue filter covers: those in the status, on live images of live projects in the person's labs
-   * (narrowed to one lab or project when asked); null when the person has no lab the filter allows.
+   * (narrowed to one lab or project when asked); null when the person has no lab the filter allows. `withSample`: the
+   * queue's rows bring their image's sample along, the count needs no such join.
    */
-  function queueScope(user: SessionUser, filter: QueueFilter) {
+  function queueScope(user: SessionUser, filter: QueueFilter, withSample = false) {
     const labIds = user.memberships.map((m) => m.labId).filter((id) => filter.labId === undefined || id === filter.labId)
     if (labIds.length === 0) return null
     return {
@@ -240,7 +241,7 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
               model: Image,
               required: true,
               where: { deletedAt: null, ...(filter.projectId ? { projectId: filter.projectId } : {}) },
-              include: [{ model: Project, required: true, where: { labId: labIds, deletedAt: null } }, { model: Sample }],
+              include: [{ model: Project, required: true, where: { labId: labIds, deletedAt: null } }, ...(withSample ? [{ model: Sample }] : [])],
             },
           ],
         },
@@ -259,7 +260,7 @@ export function createReviewService(deps: { sequelize: Sequelize; mailer: Mailer
    * they are about. Superseded ones (a newer mask was saved) are flagged, not hidden.
    */
   async function queue(user: SessionUser, filter: QueueFilter): Promise<ReviewQueueItemDto[]> {
-    const scope = queueScope(user, filter)
+    const scope = queueScope(user, filter, true)
     if (scope === null) return []
     const rows = await Analysis.findAll({ ...scope, order: [['updatedAt', 'ASC'], ['id', 'ASC']], limit: REVIEW_QUEUE_LIMIT })
     const ids = rows.map((r) => r.id)

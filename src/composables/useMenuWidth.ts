@@ -1,4 +1,5 @@
 import { computed, onBeforeUnmount, ref } from 'vue'
+import { readStored, writeStored } from '@/browserStorage'
 
 /**
  * Below this viewport width the main menu starts as icons only, so tables, plots and the canvas get the width (a
@@ -12,13 +13,8 @@ export const MENU_WIDTH_STORAGE_KEY = 'remanence.menu-width'
 type MenuWidth = 'wide' | 'narrow'
 
 function storedChoice(): MenuWidth | null {
-  try {
-    const value = window.localStorage.getItem(MENU_WIDTH_STORAGE_KEY)
-    return value === 'wide' || value === 'narrow' ? value : null
-  } catch {
-    // Storage can be switched off; the screen width decides then.
-    return null
-  }
+  const value = readStored(MENU_WIDTH_STORAGE_KEY)
+  return value === 'wide' || value === 'narrow' ? value : null
 }
 
 /**
@@ -37,11 +33,7 @@ export function useMenuWidth() {
 
   function toggle(): void {
     choice.value = folded.value ? 'wide' : 'narrow'
-    try {
-      window.localStorage.setItem(MENU_WIDTH_STORAGE_KEY, choice.value)
-    } catch {
-      // Not remembered, but the menu still changes for this visit.
-    }
+    writeStored(MENU_WIDTH_STORAGE_KEY, choice.value)
   }
 
   return { folded, toggle }

@@ -4,6 +4,7 @@
  */
 import { computed, ref, shallowRef, watch } from 'vue'
 import { defineStore } from 'pinia'
+import { readStored, writeStored } from '@/browserStorage'
 import {
   COMPARISON_MEASURE_INFO,
   type ComparisonCreepFitDto,
@@ -122,12 +123,8 @@ export function comparisonChartData(result: ComparisonResultDto): ComparisonChar
 export const LAST_COMPARED_PROJECT_KEY = 'remanence.compare-project'
 
 function rememberedProject(): number | null {
-  try {
-    const id = Number(window.localStorage.getItem(LAST_COMPARED_PROJECT_KEY))
-    return Number.isInteger(id) && id > 0 ? id : null
-  } catch {
-    return null
-  }
+  const id = Number(readStored(LAST_COMPARED_PROJECT_KEY))
+  return Number.isInteger(id) && id > 0 ? id : null
 }
 
 const DEFAULT_FORM: ComparisonForm = { projectId: null, sampleIds: [], measure: 'meanWidth', groupBy: 'annealTemperatureC', includeDrafts: false }
@@ -169,13 +166,7 @@ export const useComparisonStore = defineStore('comparison', () => {
       resultQuery.value = asked
       view.value = null
       status.value = 'ready'
-      if (form.value.projectId !== null) {
-        try {
-          window.localStorage.setItem(LAST_COMPARED_PROJECT_KEY, String(form.value.projectId))
-        } catch {
-          // Not remembered; the next visit starts with an empty form.
-        }
-      }
+      if (form.value.projectId !== null) writeStored(LAST_COMPARED_PROJECT_KEY, String(form.value.projectId))
     } catch (e) {
       if (mine !== sequence) return
       error.value = asApiError(e)
