@@ -1,7 +1,7 @@
 /**
- * Images: the filtered, sorted, paginated list (the server does the filtering), each opened image's detail, and the
- * images of a project for comparison pickers. Loads record failures in `error` for a Retry; edits throw for the form
- * that started them.
+ * Images: the filtered, sorted, paginated list (the server does the filtering), each opened image's detail, and all
+ * the images of a project (comparison pickers) or of a sample (its page). Loads record failures in `error` for a
+ * Retry; edits throw for the form that started them.
  */
 import { reactive, ref, shallowRef, watch } from 'vue'
 import { defineStore } from 'pinia'
@@ -44,14 +44,15 @@ interface ImageDetailEntry {
   error: ApiError | null
 }
 
-interface ProjectImagesEntry {
+/** All the images of one project or one sample (a comparison picker, a sample page), by name. */
+interface ImageGroupEntry {
   status: LoadStatus
   items: ImageSummaryDto[]
   error: ApiError | null
 }
 
-/** How many of a project's images a picker lists (the server's largest page). */
-const PICKER_PAGE_SIZE = 200
+/** How many images of one project or sample are listed (the server's largest page). */
+const GROUP_PAGE_SIZE = 200
 
 export const useImagesStore = defineStore('images', () => {
   const query = ref<ImageListQuery>({ ...DEFAULT_IMAGE_QUERY })
@@ -60,7 +61,8 @@ export const useImagesStore = defineStore('images', () => {
   const status = ref<LoadStatus>('idle')
   const error = shallowRef<ApiError | null>(null)
   const details = reactive(new Map<number, ImageDetailEntry>())
-  const projectImages = reactive(new Map<number, ProjectImagesEntry>())
+  const projectImages = reactive(new Map<number, ImageGroupEntry>())
+  const sampleImages = reactive(new Map<number, ImageGroupEntry>())
   let latestList = 0
 
   async function fetchImages(): Promise<void> {
@@ -148,13 +150,13 @@ export const useImagesStore = defineStore('images', () => {
     return updatedImages
   }
 
-  async function fetchProjectImages(projectId: number): Promise<void> {
-    if (!projectImages.has(projectId)) projectImages.set(projectId, { status: 'idle', items: [], error: null })
-    const entry = projectImages.get(projectId)!
+  async function fetchGroup(groups: Map<number, ImageGroupEntry>, id: number, filter: Partial<ImageFilters>): Promise<void> {
+    if (!groups.has(id)) groups.set(id, { status: 'idle', items: [], error: null })
+    const entry = groups.get(id)!
     entry.status = 'loading'
     entry.error = null
     try {
-      const page = await listImages({ ...DEFAULT_IMAGE_QUERY, projectId, pageSize: PICKER_PAGE_SIZE, sort: 'name', order: 'asc' })
+      const page = await listImages({ ...DEFAULT_IMAGE_QUERY, ...filter, pageSize: GROUP_PAGE_SIZE, sort: 'name', order: 'asc' })
       entry.items = page.items
       entry.status = 'ready'
     } catch (e) {
@@ -163,8 +165,20 @@ export const useImagesStore = defineStore('images', () => {
     }
   }
 
-  function imagesOfProject(projectId: number): ProjectImagesEntry {
+  function fetchProjectImages(projectId: number): Promise<void> {
+    return fetchGroup(projectImages, projectId, { projectId })
+  }
+
+  function imagesOfProject(projectId: number): ImageGroupEntry {
     return projectImages.get(projectId) ?? { status: 'idle', items: [], error: null }
+  }
+
+  function fetchSampleImages(sampleId: number): Promise<void> {
+    return fetchGroup(sampleImages, sampleId, { sampleId })
+  }
+
+  function imagesOfSample(sampleId: number): ImageGroupEntry {
+    return sampleImages.get(sampleId) ?? { status: 'idle', items: [], error: null }
   }
 
   function reset(): void {
@@ -175,6 +189,7 @@ export const useImagesStore = defineStore('images', () => {
     error.value = null
     details.clear()
     projectImages.clear()
+    sampleImages.clear()
     clearFramePixelCache()
   }
 
@@ -201,6 +216,8 @@ export const useImagesStore = defineStore('images', () => {
     assign,
     fetchProjectImages,
     imagesOfProject,
+    fetchSampleImages,
+    imagesOfSample,
     reset,
   }
 })
