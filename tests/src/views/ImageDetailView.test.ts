@@ -117,3 +117,17 @@ describe('ImageDetailView opening frame', () => {
     expect(wrapper.text()).toContain('Annotate frame 1')
   })
 })
+
+describe('ImageDetailView header links', () => {
+  it('When the image belongs to a sample, then the header names it with a link to the sample page, beside the project link', async () => {
+    const withSample = (): ImageDetailDto => ({ ...detail(ME), sampleId: 4, sample: { id: 4, name: 'KB24-A300', annealTemperatureC: 300 } })
+    const wrapper = await mountDetail('pi', ME, () => jsonResponse(200, withSample()))
+    const subtitle = wrapper.get('.image-detail__subtitle')
+    expect(subtitle.text().replace(/\s+/g, ' ')).toBe('Kerr, polar · 4 × 4 px · 16-bit · 1 frame · sample KB24-A300 · Garnet film')
+    const links = subtitle.findAll('a').map((a) => [a.text(), a.attributes('href')])
+    expect(links).toEqual([
+      ['KB24-A300', '/samples/4'],
+      ['Garnet film', '/projects/2'],
+    ])
+  })
+})
