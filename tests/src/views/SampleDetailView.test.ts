@@ -107,7 +107,7 @@ describe('SampleDetailView, images of the sample', () => {
     await vi.waitFor(() => expect(router.currentRoute.value.fullPath).toBe('/images/4'), { timeout: 10_000 })
   })
 
-  it('When a microscopist uses "Upload to this sample", then the upload form opens with the project and the sample chosen', async () => {
+  it('When a microscopist uses "Upload to this sample", then the upload form opens with the project and the sample chosen, and leads back to the sample', async () => {
     const { wrapper, router } = await mountSample('microscopist', () => jsonResponse(200, { items: [], total: 0, page: 1, pageSize: 200 }))
     expect(imagesSection(wrapper).text()).toContain('No images of this sample yet. Upload Kerr or MFM images and stacks into it.')
 
@@ -119,6 +119,8 @@ describe('SampleDetailView, images of the sample', () => {
     const upload = mount(ImageUploadView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
     await flushPromises()
     expect(chosen(upload)).toEqual(['KB-24 anneal series', 'KB24-A300'])
+    const back = upload.get('.image-upload__back')
+    expect([back.text(), back.attributes('href')]).toEqual(['KB24-A300', '/samples/3'])
   })
 
   it('When a link names a sample of another project, then the upload form leaves the sample unchosen', async () => {
@@ -128,6 +130,7 @@ describe('SampleDetailView, images of the sample', () => {
     const upload = mount(ImageUploadView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
     await flushPromises()
     expect(chosen(upload)).toEqual(['KB-24 anneal series'])
+    expect(upload.get('.image-upload__back').text()).toBe('All images')
   })
 
   it('When the person may not upload (an annotator), then the sample page offers no upload', async () => {
