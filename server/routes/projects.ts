@@ -37,6 +37,7 @@ const SamplePatchSchema = z.object({
   notes: z.string().max(10_000),
 }).partial()
 const SampleSchema = SampleInputSchema.extend({ id: z.number().int(), projectId: z.number().int() })
+const SampleSummarySchema = SampleSchema.extend({ imageCount: z.number().int() })
 const idParam = (name: string) => z.object({ [name]: z.coerce.number().int().positive() })
 
 export function registerProjectRoutes(api: ApiDefinition): void {
@@ -66,7 +67,7 @@ export function registerProjectRoutes(api: ApiDefinition): void {
     tags: ['samples'],
     access: 'signed-in',
     params: idParam('projectId'),
-    responses: { 200: { description: 'Samples', schema: z.array(SampleSchema) }, 404: { description: 'No such project' } },
+    responses: { 200: { description: 'Samples, each with its number of images', schema: z.array(SampleSummarySchema) }, 404: { description: 'No such project' } },
     handler: (req, _res, { params }) => listSamples(currentUser(req), params.projectId as number),
   })
   apiRoute(api, {

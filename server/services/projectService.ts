@@ -1,6 +1,6 @@
 /** Projects and samples: list, create and edit, always inside a lab the person belongs to. */
 import { literal, Op } from 'sequelize'
-import type { ProjectDto, SampleDto } from '../../shared/types/lab'
+import type { ProjectDto, SampleDto, SampleSummaryDto } from '../../shared/types/lab'
 import type { SessionUser } from '../auth/sessionUser'
 import { assertLabAction } from '../auth/guards'
 import { notFound } from '../errors'
@@ -57,10 +57,16 @@ export function toSampleDto(s: Sample): SampleDto {
   }
 }
 
-export async function listSamples(user: SessionUser, projectId: number): Promise<SampleDto[]> {
+const SAMPLE_IMAGE_COUNT_SQL = '(SELECT count(*) FROM images AS i WHERE i.sample_id = "Sample"."id" AND i.deleted_at IS NULL)'
+
+export async function listSamples(user: SessionUser, projectId: number): Promise<SampleSummaryDto[]> {
   await findProjectFor(user, projectId)
-  const samples = await Sample.findAll({ where: { projectId }, order: [['annealTemperatureC', 'ASC'], ['name', 'ASC']] })
-  return samples.map(toSampleDto)
+  const samples = await Sample.findAll({
+    attributes: { include: [[literal(SAMPLE_IMAGE_COUNT_SQL), 'imageCount']] },
+    where: { projectId },
+    order: [['annealTemperatureC', 'ASC'], ['name', 'ASC']],
+  })
+  return samples.map((s) => ({ ...toSampleDto(s), imageCount: Number(s.get('imageCount')) }))
 }
 
 export type SampleInput = Omit<SampleDto, 'id' | 'projectId'>

@@ -35,6 +35,11 @@ export interface SampleDto {
   notes: string
 }
 
+/** A sample as its project's list shows it: with the number of its images (deleted ones left out). */
+export interface SampleSummaryDto extends SampleDto {
+  imageCount: number
+}
+
 export interface LabDto {
   id: number
   name: string

@@ -4,7 +4,7 @@
  */
 import { computed, reactive, ref, shallowRef, watch } from 'vue'
 import { defineStore } from 'pinia'
-import type { ProjectDto, SampleDto } from '@shared/types/lab'
+import type { ProjectDto, SampleDto, SampleSummaryDto } from '@shared/types/lab'
 import { asApiError, type ApiError } from '@/api/http'
 import { createProject as postProject, listProjects, type ProjectInput } from '@/api/projects'
 import { createSample, listSamples, updateSample, type SampleInput, type SamplePatch } from '@/api/samples'
@@ -13,7 +13,7 @@ import { useSessionStore } from './session'
 
 interface SampleList {
   status: LoadStatus
-  items: SampleDto[]
+  items: SampleSummaryDto[]
   error: ApiError | null
 }
 
@@ -90,7 +90,7 @@ export const useProjectsStore = defineStore('projects', () => {
   async function addSample(projectId: number, input: SampleInput): Promise<SampleDto> {
     const sample = await createSample(projectId, input)
     const list = samples.get(projectId)
-    if (list) list.items = [...list.items, sample].sort(bySampleOrder)
+    if (list) list.items = [...list.items, { ...sample, imageCount: 0 }].sort(bySampleOrder)
     const project = projectById(projectId)
     if (project) project.sampleCount += 1
     return sample
@@ -99,7 +99,7 @@ export const useProjectsStore = defineStore('projects', () => {
   async function editSample(sampleId: number, patch: SamplePatch): Promise<SampleDto> {
     const sample = await updateSample(sampleId, patch)
     const list = samples.get(sample.projectId)
-    if (list) list.items = list.items.map((s) => (s.id === sample.id ? sample : s)).sort(bySampleOrder)
+    if (list) list.items = list.items.map((s) => (s.id === sample.id ? { ...sample, imageCount: s.imageCount } : s)).sort(bySampleOrder)
     return sample
   }
 

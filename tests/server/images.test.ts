@@ -355,6 +355,31 @@ describe('images', () => {
     })
   })
 
+  describe('GET /api/projects/:projectId/samples', () => {
+    it('When images are uploaded into one of two samples and one of them is deleted, then each sample lists the number of its live images', async () => {
+      const { Sample } = await import('../../server/models')
+      const filled = await Sample.create({ projectId: home.project.id, name: 'Counted A300' })
+      const empty = await Sample.create({ projectId: home.project.id, name: 'Counted A350' })
+      const ids: number[] = []
+      for (const offset of [101, 102]) {
+        const res = await upload([{ name: `sample-${offset}.tif`, body: Buffer.from(encodeTiff([ramp(8, 8, offset)])) }], { sampleId: String(filled.id) })
+        expect(res.status, JSON.stringify(res.body)).toBe(201)
+        ids.push(res.body[0].id)
+      }
+      // One image of the project without a sample: counted by neither.
+      expect((await upload([{ name: 'no-sample.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 103)])) }])).status).toBe(201)
+      const counts = async () => {
+        const res = await microscopist.agent.get(`/api/projects/${home.project.id}/samples`)
+        expect(res.status).toBe(200)
+        const byId = new Map((res.body as { id: number; imageCount: number }[]).map((s) => [s.id, s.imageCount]))
+        return [byId.get(filled.id), byId.get(empty.id)]
+      }
+      expect(await counts()).toEqual([2, 0])
+      await Image.update({ deletedAt: new Date() }, { where: { id: ids[0] } })
+      expect(await counts()).toEqual([1, 0])
+    })
+  })
+
   describe('PATCH /api/images/:imageId', () => {
     it('When the pixel size is typed in, then it is stored with its source and the edit is audited', async () => {
       const res = await upload([{ name: 'calib.tif', body: Buffer.from(encodeTiff([ramp(8, 8, 77)])) }])
