@@ -90,7 +90,12 @@ export const useImagesStore = defineStore('images', () => {
   }
 
   function clearFilters(): Promise<void> {
-    query.value = { ...DEFAULT_IMAGE_QUERY, pageSize: query.value.pageSize, sort: query.value.sort, order: query.value.order }
+    return showOnly({})
+  }
+
+  /** Only these filters, every other one cleared (a link to a project's or a sample's images); sort and page size stay. */
+  function showOnly(filters: Partial<ImageFilters>): Promise<void> {
+    query.value = { ...DEFAULT_IMAGE_QUERY, pageSize: query.value.pageSize, sort: query.value.sort, order: query.value.order, ...filters }
     return fetchImages()
   }
 
@@ -206,6 +211,7 @@ export const useImagesStore = defineStore('images', () => {
     fetchImages,
     setFilters,
     clearFilters,
+    showOnly,
     setPage,
     setSort,
     detailOf,

@@ -60,5 +60,12 @@ describe('projects store, samples with their image counts', () => {
     // Nothing is editable here, so there is no Actions column: the counts are the last cells.
     const countCells = table.findAll('tbody tr').map((tr) => tr.findAll('td').at(-1)!.text())
     expect(countCells).toEqual(['2', '0', '0'])
+    // A count above zero leads to the image list showing that sample's images.
+    const links = table.findAll('tbody tr').map((tr) => tr.findAll('td').at(-1)!.find('a'))
+    expect(links.map((a) => (a.exists() ? [a.attributes('href'), a.attributes('aria-label')] : null))).toEqual([
+      ['/images?projectId=3&sampleId=1', '2 images of KB24-A200'],
+      null,
+      null,
+    ])
   })
 })

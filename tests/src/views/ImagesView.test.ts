@@ -1,15 +1,17 @@
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
-import { createMemoryHistory } from 'vue-router'
+import { createMemoryHistory, type Router } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
 import type { LabRole } from '@shared/auth/permissions'
 import type { ImageSummaryDto } from '@shared/types/image'
 import { createAppRouter } from '@/router'
 import ImagesView from '@/views/ImagesView.vue'
+import { useImagesStore } from '@/stores/images'
 import { jsonResponse, stubFetch } from '../fakeApi'
 
 let pinia: Pinia
+let router: Router
 const ME = 7
 const COLLEAGUE = 8
 
@@ -42,18 +44,21 @@ const IMAGES = [
   { ...summary(3, 'former-member.tif', null), annotationStatus: 'submitted' as const, approvedFrameCount: 1 },
 ]
 
-async function mountImages(role: LabRole) {
-  stubFetch({
+/** `earlier` sets the list's state as an earlier visit left it (after sign-in, which resets the store). */
+async function mountImages(role: LabRole, path = '/images', earlier?: () => void) {
+  const requests = stubFetch({
     'GET /api/auth/me': () => jsonResponse(200, { id: ME, email: 'me@kestrel-lab.example', name: 'Me', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role }], csrfToken: 't' }),
     'GET /api/projects': () => jsonResponse(200, [{ id: 3, labId: 1, name: 'KB-24 anneal series', description: '', createdAt: '2026-01-01T00:00:00.000Z', sampleCount: 0, imageCount: 3 }]),
-    'GET /api/projects/3/samples': () => jsonResponse(200, []),
+    'GET /api/projects/3/samples': () => jsonResponse(200, [{ id: 5, projectId: 3, name: 'KB24-A300', material: '', thicknessNm: null, substrate: '', annealTemperatureC: 300, annealDurationMin: null, annealAtmosphere: '', annealFieldMT: null, notes: '', imageCount: 2 }]),
     'GET /api/images': () => jsonResponse(200, { items: IMAGES, total: IMAGES.length, page: 1, pageSize: 25 }),
   })
-  const router = createAppRouter(createMemoryHistory())
-  await router.push('/images')
+  router = createAppRouter(createMemoryHistory())
+  await router.push(path)
+  earlier?.()
   const wrapper = mount(ImagesView, { global: { plugins: [pinia, router, ElementPlus] }, attachTo: document.body })
   await flushPromises()
-  return wrapper
+  Object.assign(wrapper, { requests })
+  return wrapper as typeof wrapper & { requests: typeof requests }
 }
 
 /** Names of the rows that offer a Delete button (found by its accessible name, as a screen reader would). */
@@ -94,5 +99,26 @@ describe('ImagesView review state', () => {
     const wrapper = await mountImages('reviewer')
     const approved = wrapper.findAll('tbody tr').map((row) => row.find('[data-testid="approved-frames"]')).map((cell) => (cell.exists() ? cell.text() : null))
     expect(approved).toEqual([null, '3 of 41 approved', 'approved'])
+  })
+})
+
+describe('ImagesView opened from a link', () => {
+  it("When a sample's image count links here, then the list asks for that project's sample only, clears earlier filters and drops the link's query", async () => {
+    const images = useImagesStore()
+    const wrapper = await mountImages('pi', '/images?projectId=3&sampleId=5', () => (images.query = { ...images.query, search: 'old search', technique: 'mfm' }))
+    const lists = wrapper.requests.filter((r) => r.url.startsWith('/api/images?')).map((r) => new URL(r.url, 'http://x').searchParams)
+    expect(lists).toHaveLength(1)
+    expect(Object.fromEntries(lists[0])).toMatchObject({ projectId: '3', sampleId: '5', page: '1' })
+    expect(lists[0].has('search')).toBe(false)
+    expect(lists[0].has('technique')).toBe(false)
+    expect(router.currentRoute.value.fullPath).toBe('/images')
+    expect(wrapper.get('input[aria-label="Search by name"]').element).toHaveProperty('value', '')
+  })
+
+  it('When the link names no valid project, then the list keeps the filters it had', async () => {
+    const images = useImagesStore()
+    const wrapper = await mountImages('pi', '/images?projectId=abc', () => (images.query = { ...images.query, technique: 'mfm' }))
+    const lists = wrapper.requests.filter((r) => r.url.startsWith('/api/images?')).map((r) => new URL(r.url, 'http://x').searchParams)
+    expect(lists.map((q) => q.get('technique'))).toEqual(['mfm'])
   })
 })
