@@ -48,6 +48,8 @@ interface ImageDetailEntry {
 interface ImageGroupEntry {
   status: LoadStatus
   items: ImageSummaryDto[]
+  /** How many there are; more than `items` holds when the group is longer than one page. */
+  total: number
   error: ApiError | null
 }
 
@@ -156,13 +158,14 @@ export const useImagesStore = defineStore('images', () => {
   }
 
   async function fetchGroup(groups: Map<number, ImageGroupEntry>, id: number, filter: Partial<ImageFilters>): Promise<void> {
-    if (!groups.has(id)) groups.set(id, { status: 'idle', items: [], error: null })
+    if (!groups.has(id)) groups.set(id, { status: 'idle', items: [], total: 0, error: null })
     const entry = groups.get(id)!
     entry.status = 'loading'
     entry.error = null
     try {
       const page = await listImages({ ...DEFAULT_IMAGE_QUERY, ...filter, pageSize: GROUP_PAGE_SIZE, sort: 'name', order: 'asc' })
       entry.items = page.items
+      entry.total = page.total
       entry.status = 'ready'
     } catch (e) {
       entry.error = asApiError(e)
@@ -175,7 +178,7 @@ export const useImagesStore = defineStore('images', () => {
   }
 
   function imagesOfProject(projectId: number): ImageGroupEntry {
-    return projectImages.get(projectId) ?? { status: 'idle', items: [], error: null }
+    return projectImages.get(projectId) ?? { status: 'idle', items: [], total: 0, error: null }
   }
 
   function fetchSampleImages(sampleId: number): Promise<void> {
@@ -183,7 +186,7 @@ export const useImagesStore = defineStore('images', () => {
   }
 
   function imagesOfSample(sampleId: number): ImageGroupEntry {
-    return sampleImages.get(sampleId) ?? { status: 'idle', items: [], error: null }
+    return sampleImages.get(sampleId) ?? { status: 'idle', items: [], total: 0, error: null }
   }
 
   function reset(): void {

@@ -107,6 +107,16 @@ describe('SampleDetailView, images of the sample', () => {
     await vi.waitFor(() => expect(router.currentRoute.value.fullPath).toBe('/images/4'), { timeout: 10_000 })
   })
 
+  it('When a sample has more images than one page holds, then the heading counts them all and a link leads to the full list', async () => {
+    const page = { items: [image(4, 'KB24-A300_remanent.tif', 1)], total: 250, page: 1, pageSize: 200 }
+    const { wrapper } = await mountSample('pi', () => jsonResponse(200, page))
+    const section = imagesSection(wrapper)
+    expect(section.find('h2').text().replace(/\s+/g, ' ')).toBe('Images 250')
+    expect(section.text()).toContain('The first 1 by name.')
+    const all = section.findAll('a').find((a) => a.text() === 'All 250 in the image list')!
+    expect(all.attributes('href')).toBe('/images?projectId=1&sampleId=3')
+  })
+
   it('When a microscopist uses "Upload to this sample", then the upload form opens with the project and the sample chosen, and leads back to the sample', async () => {
     const { wrapper, router } = await mountSample('microscopist', () => jsonResponse(200, { items: [], total: 0, page: 1, pageSize: 200 }))
     expect(imagesSection(wrapper).text()).toContain('No images of this sample yet. Upload Kerr or MFM images and stacks into it.')
