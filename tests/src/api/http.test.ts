@@ -5,7 +5,6 @@ import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
 afterEach(() => {
   setCsrfToken(null)
   setUnauthorizedHandler(null)
-  vi.unstubAllGlobals()
 })
 
 describe('http', () => {

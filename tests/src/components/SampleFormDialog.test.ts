@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
@@ -19,10 +19,6 @@ function mountDialog() {
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('SampleFormDialog', () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createMemoryHistory, createRouter } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
@@ -25,10 +25,6 @@ const buttonTexts = (wrapper: Awaited<ReturnType<typeof mountFailed>>['wrapper']
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('UploadQueueTable', () => {

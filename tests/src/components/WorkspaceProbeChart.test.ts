@@ -1,4 +1,4 @@
-import { afterEach, describe, expect, it } from 'vitest'
+import { describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import ElementPlus from 'element-plus'
 import { fitTanhProfile } from '@shared/analysis/wallProfileFit'
@@ -21,10 +21,6 @@ async function mountChart(props: InstanceType<typeof WorkspaceProbeChart>['$prop
 function readings(wrapper: Awaited<ReturnType<typeof mountChart>>): Record<string, string> {
   return Object.fromEntries(wrapper.findAll('dt').map((dt) => [dt.text(), dt.element.nextElementSibling?.textContent?.trim() ?? '']))
 }
-
-afterEach(() => {
-  document.body.innerHTML = ''
-})
 
 describe('WorkspaceProbeChart', () => {
   it('When the pixel size is known, then w, the 10–90 % rise and the tangent width read in px and nm', async () => {

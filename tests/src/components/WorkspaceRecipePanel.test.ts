@@ -1,4 +1,4 @@
-import { afterEach, describe, expect, it } from 'vitest'
+import { describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import ElementPlus from 'element-plus'
 import { DEFAULT_RECIPE, type AnalysisRecipe } from '@shared/analysis/recipe'
@@ -15,10 +15,6 @@ async function mountPanel(recipe: AnalysisRecipe = { ...DEFAULT_RECIPE }, busy =
 function emittedRecipes(wrapper: Awaited<ReturnType<typeof mountPanel>>): AnalysisRecipe[] {
   return (wrapper.emitted('update:recipe') ?? []).map(([recipe]) => recipe as AnalysisRecipe)
 }
-
-afterEach(() => {
-  document.body.innerHTML = ''
-})
 
 describe('WorkspaceRecipePanel', () => {
   it('When the smoothing σ is typed, then a new recipe object with only that value changed is emitted', async () => {

@@ -1,4 +1,4 @@
-import { afterEach, describe, expect, it } from 'vitest'
+import { describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import ElementPlus from 'element-plus'
 import type { FrameMeasurements } from '@shared/analysis/analyzeFrame'
@@ -69,10 +69,6 @@ function rowText(wrapper: ReturnType<typeof mountPanel>, label: string): string 
 function mountPanel(props: InstanceType<typeof WorkspaceResultsPanel>['$props']) {
   return mount(WorkspaceResultsPanel, { props, global: { plugins: [ElementPlus] }, attachTo: document.body })
 }
-
-afterEach(() => {
-  document.body.innerHTML = ''
-})
 
 describe('WorkspaceResultsPanel', () => {
   it('When an uncalibrated preview is shown, then lengths are in px with ± SE and the physical values read "—" with a hint', () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises } from '@vue/test-utils'
 import { createPinia, setActivePinia } from 'pinia'
 import type { DeletionReceiptDto } from '@shared/types/deletion'
@@ -22,10 +22,6 @@ async function answerBox(text: string, buttonText: string): Promise<void> {
 }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
-})
 
 describe('useConfirmedDelete', () => {
   it('When the image has approved analyses, then a second question with the server\u2019s message comes before the delete is sent with confirmApproved=true', async () => {

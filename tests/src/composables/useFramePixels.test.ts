@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { effectScope, ref } from 'vue'
 import { flushPromises } from '@vue/test-utils'
 import { DEFAULT_DISPLAY, displayLut, type DisplaySettings } from '@/colormaps'
@@ -15,8 +15,6 @@ function pixelsResponse(width: number, height: number, bitDepth: 8 | 16 | 32, da
 }
 
 beforeEach(() => clearFramePixelCache())
-afterEach(() => vi.unstubAllGlobals())
-
 describe('loadFramePixels', () => {
   it('When a 16-bit frame has a dead and two hot pixels, then the display range skips them (0.5th–99.5th percentile)', async () => {
     // 1000 pixels 1000..1999, with pixel 0 dead (0) and the last two hot (65535). Sorted: 0, 1001, …, 1997, 65535,

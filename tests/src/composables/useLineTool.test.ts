@@ -28,7 +28,6 @@ function setUp(enabled = true) {
 
 afterEach(() => {
   for (const scope of scopes.splice(0)) scope.stop()
-  document.body.innerHTML = ''
 })
 
 describe('useLineTool', () => {

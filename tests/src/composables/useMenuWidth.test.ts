@@ -43,7 +43,6 @@ function mountMenu() {
 
 beforeEach(() => window.localStorage.clear())
 afterEach(() => {
-  vi.unstubAllGlobals()
   window.localStorage.clear()
 })
 

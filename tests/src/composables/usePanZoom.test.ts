@@ -18,7 +18,6 @@ function setUp(stageSize: Size, content: Size, options: Partial<PanZoomOptions> 
 
 afterEach(() => {
   for (const scope of scopes.splice(0)) scope.stop()
-  document.body.innerHTML = ''
 })
 
 describe('usePanZoom', () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { effectScope } from 'vue'
 import { DEFAULT_RECIPE } from '@shared/analysis/recipe'
 import type { GrayImage } from '@shared/analysis/types'
@@ -52,8 +52,6 @@ beforeEach(() => {
   ManualWorker.instances = []
   vi.stubGlobal('Worker', ManualWorker)
 })
-afterEach(() => vi.unstubAllGlobals())
-
 describe('useSegmentationWorker', () => {
   it('When a preview is asked for, then one module worker starts lazily and the answer resolves with mask and measurements', async () => {
     const worker = useSegmentationWorker()

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { createMemoryHistory } from 'vue-router'
 import { createPinia, setActivePinia } from 'pinia'
 import type { LabRole } from '@shared/auth/permissions'
@@ -19,8 +19,6 @@ function signedInAs(role: LabRole): void {
 }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => vi.unstubAllGlobals())
-
 describe('router guards', () => {
   it('When an anonymous person opens a page, then they land on sign-in with a way back', async () => {
     stubFetch({ 'GET /api/auth/me': () => errorResponse(401, 'not-signed-in', 'Please sign in.') })

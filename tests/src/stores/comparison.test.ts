@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import type { ComparisonGroupDto, ComparisonResultDto, ComparisonValueDto } from '@shared/types/comparison'
 import { comparisonChartData, comparisonQuery, creepFitText, jitterOffset, LAST_COMPARED_PROJECT_KEY, measureLabel, useComparisonStore } from '@/stores/comparison'
@@ -70,8 +70,6 @@ function creepSlope(sampleId: number, slope: number, slopeStdErr: number): Compa
 }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => vi.unstubAllGlobals())
-
 describe('comparisonQuery', () => {
   it('When no sample is chosen, then the whole project is asked for', () => {
     expect(comparisonQuery({ projectId: 4, sampleIds: [], measure: 'period', groupBy: 'annealAtmosphere', includeDrafts: false })).toEqual({

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import type { ImageSummaryDto } from '@shared/types/image'
 import { imageListSearch } from '@/api/images'
@@ -37,8 +37,6 @@ function listUrls(requests: RecordedRequest[]): string[] {
 }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => vi.unstubAllGlobals())
-
 describe('useImagesStore list', () => {
   it('When nothing is filtered, then only paging and sorting go to the server', async () => {
     const requests = stubFetch({ 'GET /api/images': () => page([summary(1, 'a.tif')], 40) })

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createPinia, setActivePinia } from 'pinia'
 import ElementPlus from 'element-plus'
@@ -28,10 +28,6 @@ const LISTED: SampleSummaryDto[] = [
 ]
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
-})
 
 describe('projects store, samples with their image counts', () => {
   it('When a sample is added or edited, then the list keeps every image count (0 for the new one) and the table shows them', async () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import { groupByAssignee, useQueueStore } from '@/stores/queue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
@@ -8,8 +8,6 @@ const PRIYA = { id: 4, name: 'Priya Raman' }
 const TOMAS = { id: 7, name: 'Tomás Ortega' }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => vi.unstubAllGlobals())
-
 describe('useQueueStore, my frames', () => {
   it('When the list is fetched, then it asks for mine=true and counts the frames per status', async () => {
     const requests = stubFetch({

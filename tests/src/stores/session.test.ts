@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { createPinia, setActivePinia } from 'pinia'
 import { LAB_ROLES, PERMISSIONS, type LabAction, type LabRole } from '@shared/auth/permissions'
 import type { CurrentUserDto } from '@shared/types/user'
@@ -24,8 +24,6 @@ async function signedInAs(memberships: { labId: number; role: LabRole }[]) {
 }
 
 beforeEach(() => setActivePinia(createPinia()))
-afterEach(() => vi.unstubAllGlobals())
-
 describe('useSessionStore', () => {
   describe('can()', () => {
     // Every role × action cell of shared/auth/permissions.ts, so a change to the table shows up here.

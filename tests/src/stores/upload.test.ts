@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { afterEach, beforeEach, describe, expect, it } from 'vitest'
 import { flushPromises } from '@vue/test-utils'
 import { createPinia, setActivePinia } from 'pinia'
 import type { UploadedImageDto } from '@shared/types/image'
@@ -28,7 +28,6 @@ beforeEach(() => {
 afterEach(() => {
   setCsrfToken(null)
   setUnauthorizedHandler(null)
-  vi.unstubAllGlobals()
 })
 
 describe('useUploadStore', () => {

@@ -63,7 +63,6 @@ function paint(store: ReturnType<typeof useWorkspaceStore>, x: number, y: number
 beforeEach(() => setActivePinia(createPinia()))
 afterEach(() => {
   vi.useRealTimers()
-  vi.unstubAllGlobals()
 })
 
 describe('useWorkspaceStore opening', () => {

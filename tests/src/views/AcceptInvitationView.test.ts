@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createMemoryHistory, type Router } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
@@ -42,10 +42,6 @@ async function fillNewAccount(wrapper: Awaited<ReturnType<typeof mountAccept>>['
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('AcceptInvitationView', () => {

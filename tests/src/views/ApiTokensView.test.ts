@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createMemoryHistory } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
@@ -38,10 +38,6 @@ async function mountTokens() {
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('ApiTokensView', () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createMemoryHistory } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
@@ -49,10 +49,6 @@ async function mountView() {
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('DeletedItemsView', () => {

@@ -1,4 +1,4 @@
-import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
+import { beforeEach, describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import { createMemoryHistory, type Router } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
@@ -67,10 +67,6 @@ const hasDeleteButton = (wrapper: Awaited<ReturnType<typeof mountDetail>>) => wr
 beforeEach(() => {
   pinia = createPinia()
   setActivePinia(pinia)
-})
-afterEach(() => {
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
 })
 
 describe('ImageDetailView delete button', () => {
