@@ -147,10 +147,10 @@ describe('stack runs', () => {
 
   it('When two worker processes are idle and one run is queued, then one takes it, the other joins through the help queue, and they split the frames', async () => {
     for (const w of workers) if (w.exitCode === null) w.kill('SIGKILL')
-    // Seed 31, 512², 1 mT steps (81 frames): a one-thread worker needs several seconds for them, time enough for the
-    // second to join even on a busy machine (it fetches the original and starts its cold analysis thread meanwhile;
-    // with 41 frames a loaded CI machine once let the owner finish alone).
-    const stepMT = 1
+    // Seed 31, 512², 0.5 mT steps (161 frames): a one-thread worker needs about ten seconds for them, time enough for
+    // the second to join even on a busy machine (it fetches the original and starts its cold analysis thread
+    // meanwhile; with 41 frames, and once with 81, a loaded CI machine let the owner finish alone).
+    const stepMT = 0.5
     const sweep = renderFieldSweep({ size: 512, seed: 31, coerciveFieldMT: HC_MT, stepMT })
     const csv = 'frame,field_mT\n' + sweep.fieldsMT.map((f, i) => `${i},${f}`).join('\n')
     const pair = [startWorker(1), startWorker(1)]
