@@ -78,6 +78,24 @@ describe('WorkspaceRecipePanel', () => {
     const wrapper = await mountPanel()
     const settings = ['Segmentation', 'Background', 'Flat-field σ (px)', 'Noise filter', 'Smoothing σ (px)', 'Clean-up', 'Smallest domain (px)', 'Fill enclosed holes', 'Align stack frames']
     expect(wrapper.findAll('label').map((l) => l.text())).toEqual(expect.arrayContaining(settings))
-    expect(wrapper.findAll('[aria-label="What is this?"]')).toHaveLength(settings.length)
+    expect(wrapper.findAll('.workspace-recipe-panel-help').map((help) => help.attributes('aria-label'))).toEqual(settings.map((name) => `About ${name}`))
+  })
+
+  it('When a screen reader reads the settings, then each control is named by its setting alone and the step buttons say what they change', async () => {
+    const wrapper = await mountPanel()
+    // The label around each control also holds the help icon; its name must not run into the control's.
+    expect(wrapper.find('[role="radiogroup"][aria-label="Segmentation"]').exists()).toBe(true)
+    expect(wrapper.find('[role="switch"][aria-label="Align stack frames"]').exists()).toBe(true)
+    const smoothing = wrapper.get('input[aria-label="Smoothing σ (px)"]')
+    expect(smoothing.attributes('role')).toBe('spinbutton')
+    const stepper = smoothing.element.closest('.el-input-number')!
+    expect(stepper.querySelector('.el-input-number__decrease')!.getAttribute('aria-label')).toBe('Decrease Smoothing σ (px)')
+    expect(stepper.querySelector('.el-input-number__increase')!.getAttribute('aria-label')).toBe('Increase Smoothing σ (px)')
+
+    // A control that appears later (the reference frame, with a reference background) is named too.
+    await wrapper.setProps({ recipe: { ...DEFAULT_RECIPE, background: 'reference', referenceFrame: 0 }, frameCount: 5 })
+    await flushPromises()
+    const reference = wrapper.get('input[aria-label="Reference frame"]').element.closest('.el-input-number')!
+    expect(reference.querySelector('.el-input-number__increase')!.getAttribute('aria-label')).toBe('Increase Reference frame')
   })
 })

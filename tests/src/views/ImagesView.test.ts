@@ -118,3 +118,13 @@ describe('ImagesView opened from a link', () => {
     expect(lists.map((q) => q.get('technique'))).toEqual(['mfm'])
   })
 })
+
+describe('ImagesView pagination', () => {
+  it('When a screen reader reaches the page-size choice, then it is named for what it sets', async () => {
+    const wrapper = await mountImages('pi')
+    // Element Plus leaves this select unnamed; the view names it (src/directives/innerNames.ts).
+    const pageSize = wrapper.get('.el-pagination__sizes input')
+    expect(pageSize.attributes('role')).toBe('combobox')
+    expect(pageSize.attributes('aria-label')).toBe('Images per page')
+  })
+})
