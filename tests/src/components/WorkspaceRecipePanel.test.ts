@@ -1,4 +1,4 @@
-import { describe, expect, it } from 'vitest'
+import { describe, expect, it, vi } from 'vitest'
 import { flushPromises, mount } from '@vue/test-utils'
 import ElementPlus from 'element-plus'
 import { DEFAULT_RECIPE, type AnalysisRecipe } from '@shared/analysis/recipe'
@@ -97,5 +97,17 @@ describe('WorkspaceRecipePanel', () => {
     await flushPromises()
     const reference = wrapper.get('input[aria-label="Reference frame"]').element.closest('.el-input-number')!
     expect(reference.querySelector('.el-input-number__increase')!.getAttribute('aria-label')).toBe('Increase Reference frame')
+  })
+
+  it('When a keyboard user tabs onto a help icon, then its explanation shows, as it does on hover', async () => {
+    const wrapper = await mountPanel()
+    const help = wrapper.get('[aria-label="About Smoothing σ (px)"]')
+    expect(help.attributes('tabindex')).toBe('0')
+    await help.trigger('focus')
+    await vi.waitFor(() => {
+      const tip = [...document.querySelectorAll('[role="tooltip"]')].find((t) => t.textContent?.includes('Gaussian blur before the split'))
+      expect(tip).toBeDefined()
+      expect(getComputedStyle(tip!).display).not.toBe('none')
+    })
   })
 })
