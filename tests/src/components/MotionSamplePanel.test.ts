@@ -34,8 +34,7 @@ async function mountPanel(answer: () => Response) {
   const router = createAppRouter(createMemoryHistory())
   const wrapper = mount(MotionSamplePanel, {
     props: { sampleId: SAMPLE.id, currentImageId: CURRENT_IMAGE },
-    // The chart draws on a canvas, which the test page lacks; its options are tested in tests/src/charts.
-    global: { plugins: [router, ElementPlus], stubs: { MotionVelocityChart: { template: '<div data-testid="velocity-chart" />' } } },
+    global: { plugins: [router, ElementPlus] },
     attachTo: document.body,
   })
   await flushPromises()
