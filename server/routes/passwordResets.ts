@@ -58,7 +58,7 @@ export function registerPasswordResetRoutes(api: ApiDefinition, resets: Password
       204: { description: 'Password changed; sign in with it' },
       400: { description: 'Weak password (weak-password)' },
       404: { description: 'Unknown link' },
-      410: { description: 'Used or expired (link-used, link-expired)' },
+      410: { description: 'Used or expired (link-used, link-expired), or the account was deactivated since (account-inactive)' },
     },
     handler: async (_req, res, { params, body }) => {
       await resets.completeReset(params.token, body.password)

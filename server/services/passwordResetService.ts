@@ -77,7 +77,8 @@ export function createPasswordResetService(deps: { sequelize: Sequelize; mailer:
       const link = await findLink(token, 'password-reset', transaction)
       assertUsable(link)
       const user = await User.findByPk(link.userId, { transaction })
-      if (!user || !user.active) throw new AppError(410, 'link-expired', 'This account can no longer be reset. Ask an administrator.')
+      // Deactivated after the link was sent: a new link would not help (none is sent to inactive accounts), so say so.
+      if (!user || !user.active) throw new AppError(410, 'account-inactive', 'This account was deactivated and can no longer be reset. Ask a lab administrator.')
       const problem = passwordProblem(password, user.email)
       if (problem) throw new AppError(400, 'weak-password', problem, { fields: { password: [problem] } })
       await user.update({ passwordHash: await hashPassword(password), failedLogins: 0, lockedUntil: null }, { transaction })

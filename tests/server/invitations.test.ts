@@ -296,6 +296,21 @@ describe('lab collaboration: invitations, members, password reset, unlock', () =
       expect((await request(ctx.app).post('/api/auth/login').send({ email: people.annotator.email, password: TEST_PASSWORD })).status).toBe(200)
     })
 
+    it('When the account is deactivated after the link was sent, then 410 account-inactive, the link stays unused and the password unchanged', async () => {
+      const { people } = await createLabWithRoles('ResetGone')
+      await request(ctx.app).post('/api/auth/password-reset').send({ email: people.microscopist.email })
+      const token = linkToken(await waitForMail(people.microscopist.email, /Reset your/), '/reset-password')
+      await User.update({ active: false }, { where: { email: people.microscopist.email } })
+      const res = await request(ctx.app).post(`/api/auth/password-reset/${token}`).send({ password: NEW_PASSWORD })
+      expect(res.status).toBe(410)
+      expect(res.body.error.code).toBe('account-inactive')
+      expect(res.body.error.message).toMatch(/deactivated/)
+      expect((await PasswordReset.findOne({ where: { tokenHash: sha256(token) } }))!.usedAt).toBeNull()
+      const user = await User.findOne({ where: { email: people.microscopist.email } })
+      await user!.update({ active: true })
+      expect((await request(ctx.app).post('/api/auth/login').send({ email: people.microscopist.email, password: TEST_PASSWORD })).status).toBe(200)
+    })
+
     it('When an address exceeds the request limit, then 429', async () => {
       const limited = startTestApp({ loginRateLimit: { windowMs: 60_000, max: 2 } })
       try {
