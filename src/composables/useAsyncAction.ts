@@ -4,10 +4,11 @@ import { asApiError, type ApiError } from '@/api/http'
 
 export interface AsyncActionOptions {
   /**
-   * The caller shows field messages beside the form's fields (see `useFieldErrors`), so an error that carries
-   * `fields` needs no extra toast.
+   * The server field names whose messages the form shows beside a field just now (see `useFieldErrors`): an error
+   * whose fields are all among them needs no extra toast; one naming a field the form does not show (say, a lab
+   * chooser hidden for people in one lab) is toasted, so it never goes unseen.
    */
-  fieldErrorsShownInForm?: boolean
+  fieldsShownInForm?: () => readonly string[]
 }
 
 export interface AsyncAction<Args extends unknown[], R> {
@@ -36,7 +37,9 @@ export function useAsyncAction<Args extends unknown[], R>(
     } catch (e) {
       const failure = asApiError(e)
       error.value = failure
-      const shownInForm = options.fieldErrorsShownInForm && Object.keys(failure.fields).length > 0
+      const fields = Object.keys(failure.fields)
+      const shown = options.fieldsShownInForm?.() ?? []
+      const shownInForm = fields.length > 0 && fields.every((field) => shown.includes(field))
       if (failure.status !== 401 && !shownInForm) ElMessage.error({ message: failure.message, grouping: true })
       return undefined
     } finally {
