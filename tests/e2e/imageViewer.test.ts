@@ -101,7 +101,7 @@ describe.skipIf(!browserAvailable)('image upload and viewer (browser)', () => {
     await expect.poll(() => conditionText(page)).toBe('0 mT')
     await page.getByRole('button', { name: 'Previous frame' }).click()
     await page.getByRole('button', { name: 'Previous frame' }).click()
-    await expect.poll(() => conditionText(page)).toBe('-20 mT')
+    await expect.poll(() => conditionText(page)).toBe('−20 mT')
 
     const seen = [await conditionText(page)]
     for (let i = 1; i < FRAMES; i++) {
@@ -109,7 +109,8 @@ describe.skipIf(!browserAvailable)('image upload and viewer (browser)', () => {
       await expect.poll(() => conditionText(page)).not.toBe(seen[seen.length - 1])
       seen.push(await conditionText(page))
     }
-    expect(seen).toEqual(FIELDS_MT.map((f) => `${f} mT`))
+    // Negative fields read with a true minus sign (U+2212), as every number in the app.
+    expect(seen).toEqual(FIELDS_MT.map((f) => `${f} mT`.replace('-', '−')))
 
     // Back to the middle frame, zoomed in on the domains, with the pixel readout under the cursor.
     await page.getByRole('button', { name: 'Next frame' }).click()

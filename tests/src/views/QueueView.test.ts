@@ -59,7 +59,7 @@ describe('QueueView', () => {
     const [image, frame, condition, status, version, , action] = rows[0]
     expect(image).toContain('sweep.tif')
     expect(image).toContain('CoFeB anneal series')
-    expect([frame, condition, status, version, action]).toEqual(['3 / 19', '-12.5 mT', 'In progress', 'v2', 'Open'])
+    expect([frame, condition, status, version, action]).toEqual(['3 / 19', '−12.5 mT', 'In progress', 'v2', 'Open'])
     expect(rows[1].slice(1, 5)).toEqual(['single', '300 K', 'Not started', 'none yet'])
   })
 
