@@ -5,40 +5,16 @@ import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
 import { DEFAULT_RECIPE, type AnalysisRecipe } from '@shared/analysis/recipe'
 import { ENGINE_VERSION } from '@shared/analysis/engineVersion'
-import type { ImageDetailDto } from '@shared/types/image'
 import type { StackRunDto } from '@shared/types/stack'
 import { createAppRouter } from '@/router'
 import ImageStackRunDialog from '@/components/ImageStackRunDialog.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { imageDetailDto } from '../labDtos'
 
 const IMAGE_ID = 12
 const NEW_RUN_ID = 57
 
-const IMAGE: ImageDetailDto = {
-  id: IMAGE_ID,
-  name: 'KB24-A300_field-sweep.tif',
-  sha256: 'cd'.repeat(32),
-  width: 512,
-  height: 512,
-  bitDepth: 16,
-  frameCount: 41,
-  coverFrameIndex: 20,
-  pixelSizeNm: 200,
-  projectId: 1,
-  sampleId: 3,
-  uploadedById: 4,
-  technique: 'kerr-polar',
-  createdAt: '2026-11-12T14:05:00.000Z',
-  acquiredAt: null,
-  annotationStatus: 'new',
-  approvedFrameCount: 0,
-  notes: '',
-  pixelSizeSource: 'tiff',
-  mediaType: 'image/tiff',
-  byteSize: 21_500_000,
-  sample: { id: 3, name: 'KB24-A300', annealTemperatureC: 300 },
-  frames: [],
-}
+const IMAGE = imageDetailDto({ id: IMAGE_ID })
 
 /** The queued run as POST /api/images/:id/stack-runs answers it (202, server/services/stackRunService.ts). */
 function queued(recipe: AnalysisRecipe): StackRunDto {

@@ -10,22 +10,11 @@ import { createAppRouter } from '@/router'
 import ImageUploadView from '@/views/ImageUploadView.vue'
 import SampleDetailView from '@/views/SampleDetailView.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { sampleDto } from '../labDtos'
 
 let pinia: Pinia
 
-const SAMPLE = {
-  id: 3,
-  projectId: 1,
-  name: 'KB24-A300',
-  material: 'Ta/CoFeB/MgO (perpendicular)',
-  thicknessNm: 1.1,
-  substrate: 'Si / 100 nm SiO2',
-  annealTemperatureC: 300,
-  annealDurationMin: 60,
-  annealAtmosphere: 'vacuum',
-  annealFieldMT: 600,
-  notes: '',
-}
+const SAMPLE = sampleDto({ material: 'Ta/CoFeB/MgO (perpendicular)' })
 const MEASUREMENTS: SampleMeasurementsDto = { sample: SAMPLE, labId: 1, projectName: 'KB-24 anneal series', frames: [], stackRuns: [] }
 
 function image(id: number, name: string, frameCount: number): ImageSummaryDto {

@@ -9,6 +9,7 @@ import type { ReportAnalysisDto, ReportImageDto, SampleReportDto } from '@shared
 import { createAppRouter } from '@/router'
 import SampleReportView from '@/views/SampleReportView.vue'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
+import { sampleDto } from '../labDtos'
 import { alertTexts, getButton } from '../domQueries'
 
 const SAMPLE_ID = 3
@@ -92,19 +93,7 @@ function report(overrides: Partial<SampleReportDto> = {}): SampleReportDto {
     engineVersion: '1.2.0',
     lab: { id: 1, name: 'Thin-Film Magnetism Group' },
     project: { id: 1, name: 'KB-24 anneal series' },
-    sample: {
-      id: SAMPLE_ID,
-      projectId: 1,
-      name: 'KB24-A300',
-      material: 'Ta/CoFeB/MgO',
-      thicknessNm: 1.1,
-      substrate: 'Si / 100 nm SiO2',
-      annealTemperatureC: 300,
-      annealDurationMin: 60,
-      annealAtmosphere: 'vacuum',
-      annealFieldMT: 600,
-      notes: 'Cleaved from the wafer centre.',
-    },
+    sample: sampleDto({ id: SAMPLE_ID, notes: 'Cleaved from the wafer centre.' }),
     images: [FIELD_SWEEP],
     approvals: [
       { analysisId: 31, imageId: 5, imageName: 'KB24-A300_field-sweep.tif', frameIndex: 0, reviewer: REVIEWER, approvedAt: '2026-11-20T09:30:00.000Z', current: true },

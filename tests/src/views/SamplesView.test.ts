@@ -8,6 +8,7 @@ import type { ProjectDto, SampleSummaryDto } from '@shared/types/lab'
 import { createAppRouter } from '@/router'
 import SamplesView from '@/views/SamplesView.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { sampleSummaryDto } from '../labDtos'
 import { alertTexts, getButton } from '../domQueries'
 
 let pinia: Pinia
@@ -18,21 +19,7 @@ function project(id: number, name: string, sampleCount: number): ProjectDto {
 }
 
 function sample(id: number, projectId: number, name: string, overrides: Partial<SampleSummaryDto> = {}): SampleSummaryDto {
-  return {
-    id,
-    projectId,
-    name,
-    material: 'Ta/CoFeB/MgO',
-    thicknessNm: 1.1,
-    substrate: 'Si / 100 nm SiO2',
-    annealTemperatureC: 300,
-    annealDurationMin: 60,
-    annealAtmosphere: 'vacuum',
-    annealFieldMT: 600,
-    notes: '',
-    imageCount: 0,
-    ...overrides,
-  }
+  return sampleSummaryDto({ id, projectId, name, ...overrides })
 }
 
 const ANNEAL = project(1, 'KB-24 anneal series', 2)

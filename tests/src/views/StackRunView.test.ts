@@ -16,6 +16,7 @@ import StackRunView from '@/views/StackRunView.vue'
 import { formatNumber } from '@/formatQuantity'
 import { renderFieldSweep, renderTemperatureRamp } from '../../../scripts/sampleImages'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
+import { imageDetailDto } from '../labDtos'
 import { alertTexts, getButton } from '../domQueries'
 
 const RUN_ID = 3
@@ -45,31 +46,7 @@ beforeAll(() => {
 }, 120_000)
 
 function image(name: string, frameCount: number): ImageDetailDto {
-  return {
-    id: IMAGE_ID,
-    name,
-    sha256: 'cd'.repeat(32),
-    width: 128,
-    height: 128,
-    bitDepth: 16,
-    frameCount,
-    coverFrameIndex: 0,
-    pixelSizeNm: 200,
-    projectId: 1,
-    sampleId: 3,
-    uploadedById: 4,
-    technique: 'kerr-polar',
-    createdAt: '2026-11-12T14:05:00.000Z',
-    acquiredAt: null,
-    annotationStatus: 'new',
-    approvedFrameCount: 0,
-    notes: '',
-    pixelSizeSource: 'tiff',
-    mediaType: 'image/tiff',
-    byteSize: 340_000,
-    sample: { id: 3, name: 'KB24-A300', annealTemperatureC: 300 },
-    frames: [],
-  }
+  return imageDetailDto({ id: IMAGE_ID, name, width: 128, height: 128, frameCount, coverFrameIndex: 0, byteSize: 340_000 })
 }
 const SWEEP_IMAGE = image('KB24-A300_field-sweep.tif', 41)
 const RAMP_IMAGE = image('KB24-A300_temperature-ramp.tif', 25)
