@@ -70,3 +70,15 @@ export function guessMaterialChoice(material: string, choices: readonly Material
     null
   )
 }
+
+/**
+ * The source text of a lab material copied from a choice: a built-in row names each constant's own source
+ * (constants sharing one are listed together), "Built-in table — Ms, Tc: …; A, K1: …"; a lab row keeps its own text.
+ */
+export function copiedSourceText(choice: MaterialChoice): string {
+  if (choice.group === 'lab') return choice.sources.ms
+  const byText = new Map<string, string[]>()
+  const named: [string, string | null][] = [['Ms', choice.sources.ms], ['A', choice.sources.a], ['K1', choice.sources.k], ['Tc', choice.sources.tc]]
+  for (const [constant, text] of named) if (text !== null) byText.set(text, [...(byText.get(text) ?? []), constant])
+  return `Built-in table — ${[...byText].map(([text, constants]) => `${constants.join(', ')}: ${text}`).join('; ')}`
+}

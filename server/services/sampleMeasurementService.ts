@@ -7,6 +7,7 @@
 import { QueryTypes, type Sequelize } from 'sequelize'
 import type { FrameMeasurements } from '../../shared/analysis/analyzeFrame'
 import type { CurieSummary, LoopSummary } from '../../shared/analysis/analyzeStack'
+import type { AnalysisStatus } from '../../shared/types/lab'
 import type { SampleFrameMeasurementDto, SampleMeasurementsDto, SampleStackRunSummaryDto } from '../../shared/types/sampleMeasurements'
 import type { SessionUser } from '../auth/sessionUser'
 import { notFound } from '../errors'
@@ -19,7 +20,8 @@ const RUN_LIMIT = 50
 interface LatestAnalysisRow {
   id: number
   frame_id: number
-  status: string
+  /** Written only through the Analysis model, whose status is an AnalysisStatus. */
+  status: AnalysisStatus
   created_at: Date
   measurements: FrameMeasurements | null
 }

@@ -2,7 +2,7 @@
  * GET /api/samples/:sampleId/measurements: what has been measured on a sample — the latest analysis of every analysed
  * frame of its images, and the summaries of its images' stack runs — for comparison with theory (METHODS §7.2).
  */
-import type { SampleDto } from './lab'
+import type { AnalysisStatus, SampleDto } from './lab'
 import type { StackRunStatus } from './stack'
 
 /** The latest analysis of one frame (mask saved in the workspace). Lengths in px always, in nm when calibrated. */
@@ -14,7 +14,7 @@ export interface SampleFrameMeasurementDto {
   field: number | null
   fieldUnit: string | null
   temperatureK: number | null
-  status: string
+  status: AnalysisStatus
   createdAt: string
   pixelSizeNm: number | null
   magnetization: number | null
