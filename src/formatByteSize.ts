@@ -8,7 +8,8 @@ export function formatByteSize(bytes: number): string {
     value /= 1000
     unit++
   }
-  return new Intl.NumberFormat(undefined, {
+  // English, as the rest of the interface: "3.4 MB" in any browser language.
+  return new Intl.NumberFormat('en-US', {
     style: 'unit',
     unit: UNITS[unit],
     unitDisplay: unit === 0 ? 'long' : 'short',

@@ -32,3 +32,16 @@ export function formatQuantity(value: number | null | undefined, unit: string, s
   const number = formatNumber(value, significantDigits)
   return number === '—' || unit === '' ? number : `${number} ${unit}`
 }
+
+/**
+ * A value with its standard error, both rounded at the error's second significant digit ("12.44 ± 0.32",
+ * "124 ± 32") but never beyond the value's fourth significant digit, so a tiny error reads "6.592 ± 0.000" [P].
+ * Without a usable error the value keeps 3 significant digits. A negative value has a true minus sign.
+ */
+export function formatWithStdErr(value: number, stdErr: number | null): string {
+  if (stdErr === null || !(stdErr > 0) || !Number.isFinite(stdErr) || !Number.isFinite(value)) return formatNumber(value, 3)
+  const fromError = 1 - Math.floor(Math.log10(stdErr))
+  const fromValue = value === 0 ? fromError : 3 - Math.floor(Math.log10(Math.abs(value)))
+  const decimals = Math.min(6, Math.max(0, Math.min(fromError, fromValue)))
+  return `${value.toFixed(decimals).replace(/^-/, '−')} ± ${stdErr.toFixed(decimals)}`
+}

@@ -112,7 +112,7 @@ describe('WorkspaceResultsPanel', () => {
     const maze = measurements({ orientationDeg: -77.7, orderParameter: 0.015 })
     const wrapper = mountPanel({ analysis: null, previewMeasurements: maze, status: 'ready' })
 
-    expect(rowText(wrapper, 'Stripe orientation')).toBe('Stripe orientation no preferred direction order S = 0.015 < 0.2; mean angle -77.7° is noise')
+    expect(rowText(wrapper, 'Stripe orientation')).toBe('Stripe orientation no preferred direction order S = 0.015 < 0.2; mean angle −77.7° is noise')
   })
 
   it('When a preview exists next to a saved analysis, then the preview numbers are shown and marked as not saved', () => {
