@@ -505,7 +505,7 @@ describe('CompareView, saved views', () => {
       },
     })
     const items = savedViews(wrapper).findAll('li').map((li) => [li.get('a').text(), li.get('.compare-saved-views__what').text()])
-    const date = new Date(SAVED.createdAt).toLocaleDateString()
+    const date = new Intl.DateTimeFormat(undefined, { dateStyle: 'medium' }).format(new Date(SAVED.createdAt))
     expect(items).toEqual([
       // A view whose author's account is gone names "someone".
       ['Remanence with drafts', `Remanence M/Ms by anneal atmosphere, drafts included · someone, ${date}`],
