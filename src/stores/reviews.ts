@@ -192,6 +192,7 @@ export const useReviewsStore = defineStore('reviews', () => {
     if (!current) throw new Error('No analysis open.')
     const created = await addComment(current.id, point ? { body, x: point.x, y: point.y } : { body })
     comments.value = [...comments.value, created]
+    await refreshHistory(current.id)
     return created
   }
 
@@ -200,7 +201,16 @@ export const useReviewsStore = defineStore('reviews', () => {
     if (!current) throw new Error('No analysis open.')
     const updated = await setCommentResolved(current.id, commentId, resolved)
     comments.value = comments.value.map((c) => (c.id === updated.id ? updated : c))
+    await refreshHistory(current.id)
     return updated
+  }
+
+  /**
+   * The history after a comment was added, resolved or reopened (the server records each). The comment itself is
+   * done: a history that fails to load keeps the one shown rather than failing the action.
+   */
+  async function refreshHistory(analysisId: number): Promise<void> {
+    history.value = await getAnalysisHistory(analysisId).catch(() => history.value)
   }
 
   const session = useSessionStore()
