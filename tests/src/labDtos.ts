@@ -5,6 +5,7 @@
  */
 import type { ImageDetailDto } from '@shared/types/image'
 import type { SampleDto, SampleSummaryDto } from '@shared/types/lab'
+import type { SampleFrameMeasurementDto, SampleStackRunSummaryDto } from '@shared/types/sampleMeasurements'
 
 /** Sample 3, KB24-A300, as GET /api/samples/:id (and the report, the measurements) carry it. */
 export function sampleDto(overrides: Partial<SampleDto> = {}): SampleDto {
@@ -55,6 +56,54 @@ export function imageDetailDto(overrides: Partial<ImageDetailDto> = {}): ImageDe
     byteSize: 21_500_000,
     sample: { id: 3, name: 'KB24-A300', annealTemperatureC: 300 },
     frames: [],
+    ...overrides,
+  }
+}
+
+/** One stack run of KB24-A300's images as GET /api/samples/3/measurements lists it (a finished, calibrated field sweep). */
+export function sampleStackRunDto(overrides: Partial<SampleStackRunSummaryDto> = {}): SampleStackRunSummaryDto {
+  return {
+    runId: 7,
+    imageId: 12,
+    imageName: 'KB24-A300_field-sweep.tif',
+    status: 'done',
+    framesTotal: 41,
+    framesDone: 41,
+    createdAt: '2026-11-12T15:00:00.000Z',
+    finishedAt: '2026-11-12T15:04:00.000Z',
+    pixelSizeNm: 200,
+    framesMeasured: 41,
+    nearZeroFrame: { index: 20, magnetization: -0.013, meanWidthPx: 2.05, meanWidthNm: 410, periodPx: 4.2, periodNm: 840 },
+    medianWidthPx: 2.2,
+    medianWidthNm: 440,
+    medianPeriodPx: 4.5,
+    medianPeriodNm: 900,
+    coerciveField: 1.8,
+    fieldUnit: 'mT',
+    tcK: null,
+    beta: null,
+    ...overrides,
+  }
+}
+
+/** The latest analysis of one frame (a calibrated, approved remanent-state image). */
+export function sampleFrameMeasurementDto(overrides: Partial<SampleFrameMeasurementDto> = {}): SampleFrameMeasurementDto {
+  return {
+    analysisId: 31,
+    imageId: 4,
+    imageName: 'KB24-A300_remanent.tif',
+    frameIndex: 0,
+    field: 0,
+    fieldUnit: 'mT',
+    temperatureK: 295,
+    status: 'approved',
+    createdAt: '2026-11-13T09:00:00.000Z',
+    pixelSizeNm: 100,
+    magnetization: 0.02,
+    meanWidthPx: 5,
+    meanWidthNm: 500,
+    periodPx: 10,
+    periodNm: 1000,
     ...overrides,
   }
 }

@@ -3,66 +3,20 @@ import { flushPromises, mount, type VueWrapper } from '@vue/test-utils'
 import { createMemoryHistory, type Router } from 'vue-router'
 import { createPinia, setActivePinia, type Pinia } from 'pinia'
 import ElementPlus from 'element-plus'
-import type { SampleFrameMeasurementDto, SampleMeasurementsDto, SampleStackRunSummaryDto } from '@shared/types/sampleMeasurements'
+import type { SampleMeasurementsDto } from '@shared/types/sampleMeasurements'
 import { createAppRouter } from '@/router'
 import SampleMeasurementsPanel from '@/components/SampleMeasurementsPanel.vue'
 import SampleDetailView from '@/views/SampleDetailView.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
 import { alertTexts, getButton } from '../domQueries'
-import { sampleDto } from '../labDtos'
+import { sampleDto, sampleFrameMeasurementDto, sampleStackRunDto } from '../labDtos'
 
 let pinia: Pinia
 let router: Router
 
 const ELENA = { id: 3, email: 'elena.varga@thin-film.example', name: 'Elena Varga', memberships: [{ labId: 1, labName: 'Thin-Film Magnetism Group', role: 'microscopist' }], csrfToken: 't' }
 
-/** One stack run of KB24-A300's images as GET /api/samples/3/measurements lists it (a finished, calibrated field sweep). */
-function stackRun(overrides: Partial<SampleStackRunSummaryDto> = {}): SampleStackRunSummaryDto {
-  return {
-    runId: 7,
-    imageId: 12,
-    imageName: 'KB24-A300_field-sweep.tif',
-    status: 'done',
-    framesTotal: 41,
-    framesDone: 41,
-    createdAt: '2026-11-12T15:00:00.000Z',
-    finishedAt: '2026-11-12T15:04:00.000Z',
-    pixelSizeNm: 200,
-    framesMeasured: 41,
-    nearZeroFrame: { index: 20, magnetization: -0.013, meanWidthPx: 2.05, meanWidthNm: 410, periodPx: 4.2, periodNm: 840 },
-    medianWidthPx: 2.2,
-    medianWidthNm: 440,
-    medianPeriodPx: 4.5,
-    medianPeriodNm: 900,
-    coerciveField: 1.8,
-    fieldUnit: 'mT',
-    tcK: null,
-    beta: null,
-    ...overrides,
-  }
-}
 
-/** The latest analysis of one frame (a calibrated, approved remanent-state image). */
-function frame(overrides: Partial<SampleFrameMeasurementDto> = {}): SampleFrameMeasurementDto {
-  return {
-    analysisId: 31,
-    imageId: 4,
-    imageName: 'KB24-A300_remanent.tif',
-    frameIndex: 0,
-    field: 0,
-    fieldUnit: 'mT',
-    temperatureK: 295,
-    status: 'approved',
-    createdAt: '2026-11-13T09:00:00.000Z',
-    pixelSizeNm: 100,
-    magnetization: 0.02,
-    meanWidthPx: 5,
-    meanWidthNm: 500,
-    periodPx: 10,
-    periodNm: 1000,
-    ...overrides,
-  }
-}
 
 function measurements(parts: Partial<Pick<SampleMeasurementsDto, 'frames' | 'stackRuns'>> = {}): SampleMeasurementsDto {
   return { sample: sampleDto(), labId: 1, projectName: 'KB-24 anneal series', frames: [], stackRuns: [], ...parts }
@@ -112,10 +66,10 @@ describe('SampleMeasurementsPanel', () => {
     const wrapper = await mountPanel(
       measurements({
         stackRuns: [
-          stackRun({ runId: 9, status: 'running', framesDone: 12, finishedAt: null, framesMeasured: 12, nearZeroFrame: null, medianWidthPx: null, medianWidthNm: null, medianPeriodPx: null, medianPeriodNm: null, coerciveField: null, fieldUnit: null }),
-          stackRun(),
+          sampleStackRunDto({ runId: 9, status: 'running', framesDone: 12, finishedAt: null, framesMeasured: 12, nearZeroFrame: null, medianWidthPx: null, medianWidthNm: null, medianPeriodPx: null, medianPeriodNm: null, coerciveField: null, fieldUnit: null }),
+          sampleStackRunDto(),
           // A temperature series of an uncalibrated image: pixels only, with its Curie fit.
-          stackRun({
+          sampleStackRunDto({
             runId: 6,
             imageId: 13,
             imageName: 'KB24-A300_heating.tif',
@@ -128,7 +82,7 @@ describe('SampleMeasurementsPanel', () => {
             tcK: 612.35,
             beta: 0.3265,
           }),
-          stackRun({ runId: 5, status: 'failed', framesDone: 0, framesMeasured: 0, nearZeroFrame: null, medianWidthPx: null, medianWidthNm: null, medianPeriodPx: null, medianPeriodNm: null, coerciveField: null, fieldUnit: null }),
+          sampleStackRunDto({ runId: 5, status: 'failed', framesDone: 0, framesMeasured: 0, nearZeroFrame: null, medianWidthPx: null, medianWidthNm: null, medianPeriodPx: null, medianPeriodNm: null, coerciveField: null, fieldUnit: null }),
         ],
       }),
     )
@@ -148,7 +102,7 @@ describe('SampleMeasurementsPanel', () => {
   })
 
   it('When a run number is clicked, then its stack run page opens', async () => {
-    const wrapper = await mountPanel(measurements({ stackRuns: [stackRun()] }))
+    const wrapper = await mountPanel(measurements({ stackRuns: [sampleStackRunDto()] }))
     const link = wrapper.findAll('a').find((a) => a.text() === 'Run #7')!
     expect(link.attributes('href')).toBe('/stack-runs/7')
     await link.trigger('click')
@@ -159,9 +113,9 @@ describe('SampleMeasurementsPanel', () => {
     const wrapper = await mountPanel(
       measurements({
         frames: [
-          frame(),
-          frame({ analysisId: 40, imageId: 12, imageName: 'KB24-A300_field-sweep.tif', frameIndex: 17, field: -12.5, temperatureK: null, status: 'draft', pixelSizeNm: null, magnetization: -0.412, meanWidthPx: 5.254, meanWidthNm: null, periodPx: null, periodNm: null }),
-          frame({ analysisId: 41, imageId: 14, imageName: 'KB24-A300_overview.tif', frameIndex: 0, field: null, fieldUnit: null, temperatureK: null, status: 'draft', magnetization: null, meanWidthNm: 1234.56, periodNm: null, periodPx: null }),
+          sampleFrameMeasurementDto(),
+          sampleFrameMeasurementDto({ analysisId: 40, imageId: 12, imageName: 'KB24-A300_field-sweep.tif', frameIndex: 17, field: -12.5, temperatureK: null, status: 'draft', pixelSizeNm: null, magnetization: -0.412, meanWidthPx: 5.254, meanWidthNm: null, periodPx: null, periodNm: null }),
+          sampleFrameMeasurementDto({ analysisId: 41, imageId: 14, imageName: 'KB24-A300_overview.tif', frameIndex: 0, field: null, fieldUnit: null, temperatureK: null, status: 'draft', magnetization: null, meanWidthNm: 1234.56, periodNm: null, periodPx: null }),
         ],
       }),
     )
@@ -185,7 +139,7 @@ describe('SampleMeasurementsPanel', () => {
 
   it('When the sample page cannot load the measurements, then it says what failed instead of showing an empty Measured panel, and Retry shows them', async () => {
     let calls = 0
-    const data = measurements({ stackRuns: [stackRun()], frames: [frame()] })
+    const data = measurements({ stackRuns: [sampleStackRunDto()], frames: [sampleFrameMeasurementDto()] })
     stubFetch({
       'GET /api/auth/me': () => jsonResponse(200, ELENA),
       'GET /api/samples/3/measurements': () => (++calls === 1 ? errorResponse(503, 'unavailable', 'The database is not answering.') : jsonResponse(200, data)),

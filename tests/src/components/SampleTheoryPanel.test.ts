@@ -6,14 +6,14 @@ import ElementPlus from 'element-plus'
 import type { LabRole } from '@shared/auth/permissions'
 import type { SampleDto } from '@shared/types/lab'
 import type { LabMaterialDto } from '@shared/types/labMaterial'
-import type { SampleFrameMeasurementDto, SampleMeasurementsDto, SampleStackRunSummaryDto } from '@shared/types/sampleMeasurements'
+import type { SampleMeasurementsDto } from '@shared/types/sampleMeasurements'
 import { createAppRouter } from '@/router'
 import SampleTheoryMaterialDialog from '@/components/SampleTheoryMaterialDialog.vue'
 import SampleTheoryPanel from '@/components/SampleTheoryPanel.vue'
 import { useSessionStore } from '@/stores/session'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
 import { alertTexts, getButton, getByLabel } from '../domQueries'
-import { sampleDto } from '../labDtos'
+import { sampleDto, sampleFrameMeasurementDto, sampleStackRunDto } from '../labDtos'
 
 let pinia: Pinia
 
@@ -60,51 +60,7 @@ function labMaterial(overrides: Partial<LabMaterialDto> = {}): LabMaterialDto {
   }
 }
 
-function stackRun(overrides: Partial<SampleStackRunSummaryDto> = {}): SampleStackRunSummaryDto {
-  return {
-    runId: 7,
-    imageId: 12,
-    imageName: 'KB24-A300_field-sweep.tif',
-    status: 'done',
-    framesTotal: 41,
-    framesDone: 41,
-    createdAt: '2026-11-12T15:00:00.000Z',
-    finishedAt: '2026-11-12T15:04:00.000Z',
-    pixelSizeNm: 200,
-    framesMeasured: 41,
-    nearZeroFrame: { index: 20, magnetization: -0.013, meanWidthPx: 2.05, meanWidthNm: 410, periodPx: 4.2, periodNm: 840 },
-    medianWidthPx: 2.2,
-    medianWidthNm: 440,
-    medianPeriodPx: 4.5,
-    medianPeriodNm: 900,
-    coerciveField: 1.8,
-    fieldUnit: 'mT',
-    tcK: null,
-    beta: null,
-    ...overrides,
-  }
-}
 
-function frame(overrides: Partial<SampleFrameMeasurementDto> = {}): SampleFrameMeasurementDto {
-  return {
-    analysisId: 31,
-    imageId: 4,
-    imageName: 'KB24-A300_remanent.tif',
-    frameIndex: 0,
-    field: 0,
-    fieldUnit: 'mT',
-    temperatureK: 295,
-    status: 'approved',
-    createdAt: '2026-11-13T09:00:00.000Z',
-    pixelSizeNm: 100,
-    magnetization: 0.02,
-    meanWidthPx: 5,
-    meanWidthNm: 500,
-    periodPx: 10,
-    periodNm: 1000,
-    ...overrides,
-  }
-}
 
 function measurementsOf(sample: SampleDto, parts: Partial<Pick<SampleMeasurementsDto, 'frames' | 'stackRuns'>> = {}): SampleMeasurementsDto {
   return { sample, labId: 1, projectName: 'KB-24 anneal series', frames: [], stackRuns: [], ...parts }
@@ -307,8 +263,8 @@ describe('SampleTheoryPanel, comparing with measurements', () => {
 
     const sample = sampleDto()
     const measurements = measurementsOf(sample, {
-      stackRuns: [stackRun()],
-      frames: [frame(), frame({ analysisId: 32, imageId: 5, imageName: 'KB24-A300_uncalibrated.tif', pixelSizeNm: null, meanWidthNm: null, periodNm: null })],
+      stackRuns: [sampleStackRunDto()],
+      frames: [sampleFrameMeasurementDto(), sampleFrameMeasurementDto({ analysisId: 32, imageId: 5, imageName: 'KB24-A300_uncalibrated.tif', pixelSizeNm: null, meanWidthNm: null, periodNm: null })],
     })
     const { wrapper } = await mountPanel({ sample, measurements, materials: () => jsonResponse(200, [labMaterial()]) })
 
@@ -345,8 +301,8 @@ describe('SampleTheoryPanel, comparing with measurements', () => {
   it('When no measurement is calibrated, then "Compare with" is disabled and nothing measured is shown', async () => {
     const sample = sampleDto({ material: 'Fe' })
     const measurements = measurementsOf(sample, {
-      stackRuns: [stackRun({ pixelSizeNm: null, nearZeroFrame: { index: 20, magnetization: 0.01, meanWidthPx: 2.05, meanWidthNm: null, periodPx: 4.2, periodNm: null } })],
-      frames: [frame({ pixelSizeNm: null, meanWidthNm: null, periodNm: null })],
+      stackRuns: [sampleStackRunDto({ pixelSizeNm: null, nearZeroFrame: { index: 20, magnetization: 0.01, meanWidthPx: 2.05, meanWidthNm: null, periodPx: 4.2, periodNm: null } })],
+      frames: [sampleFrameMeasurementDto({ pixelSizeNm: null, meanWidthNm: null, periodNm: null })],
     })
     const { wrapper } = await mountPanel({ sample, measurements })
     expect(selectNamed(wrapper, 'Compare with').get('input').attributes('disabled')).toBeDefined()
