@@ -1,4 +1,4 @@
-import type { DOMWrapper, VueWrapper } from '@vue/test-utils'
+import { flushPromises, type DOMWrapper, type VueWrapper } from '@vue/test-utils'
 
 type Found<T extends Element> = Omit<DOMWrapper<T>, 'exists'>
 
@@ -21,4 +21,34 @@ export function getButton(wrapper: VueWrapper, text: string): DOMWrapper<HTMLBut
 /** Texts of the elements with role="alert". */
 export function alertTexts(wrapper: VueWrapper): string[] {
   return wrapper.findAll('[role="alert"]').map((a) => a.text())
+}
+
+/** An Element Plus select, found by the accessible name of its input. */
+export function selectNamed(wrapper: VueWrapper, name: string): DOMWrapper<Element> {
+  const select = wrapper.findAll('.el-select').find((s) => s.find(`input[aria-label="${name}"]`).exists())
+  if (!select) throw new Error(`No select "${name}"`)
+  return select
+}
+
+/** The texts a select shows as chosen (one, or the tags of a multiple select); none while it shows its placeholder. */
+export function chosenTexts(wrapper: VueWrapper, name: string): string[] {
+  return selectNamed(wrapper, name).findAll('.el-select__placeholder:not(.is-transparent)').map((chosen) => chosen.text())
+}
+
+/** Open a select as a person would; its options are teleported to the end of the body (the list its input controls). */
+export async function openSelectOptions(wrapper: VueWrapper, name: string): Promise<HTMLElement[]> {
+  const select = selectNamed(wrapper, name)
+  await select.get('.el-select__wrapper').trigger('click')
+  await flushPromises()
+  const list = select.get(`input[aria-label="${name}"]`).attributes('aria-controls')
+  return [...document.body.querySelectorAll<HTMLElement>(`[id="${list}"] .el-select-dropdown__item`)]
+}
+
+/** Choose the option whose text is `text` (or, failing that, begins with it: options may add a detail). */
+export async function chooseOption(wrapper: VueWrapper, name: string, text: string): Promise<void> {
+  const options = await openSelectOptions(wrapper, name)
+  const option = options.find((o) => o.textContent?.trim() === text) ?? options.find((o) => o.textContent?.trim().startsWith(text))
+  if (!option) throw new Error(`No option "${text}" in "${name}"`)
+  option.click()
+  await flushPromises()
 }

@@ -7,7 +7,7 @@ import ImageListFilters from '@/components/ImageListFilters.vue'
 import { useImagesStore } from '@/stores/images'
 import { useProjectsStore } from '@/stores/projects'
 import { jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
-import { getButton } from '../domQueries'
+import { chooseOption, chosenTexts, getButton, openSelectOptions, selectNamed } from '../domQueries'
 import { sampleSummaryDto } from '../labDtos'
 
 let pinia: Pinia
@@ -46,33 +46,9 @@ const listQueries = (requests: RecordedRequest[]) =>
 /** The paging and order every list request carries besides its filters (the store's defaults). */
 const PAGING = { page: '1', pageSize: '25', sort: 'createdAt', order: 'desc' }
 
-/** The select a screen reader names `name`. */
-function selectNamed(wrapper: Wrapper, name: string) {
-  const select = wrapper.findAll('.el-select').find((s) => s.find(`input[aria-label="${name}"]`).exists())
-  if (!select) throw new Error(`No select "${name}"`)
-  return select
-}
-
 /** The text a select shows as chosen, or null while it shows its placeholder. */
-function chosen(wrapper: Wrapper, name: string): string | null {
-  const text = selectNamed(wrapper, name).find('.el-select__placeholder:not(.is-transparent)')
-  return text.exists() ? text.text() : null
-}
-
-/** Open a select; its listbox (named like the select) is teleported to the end of the body. */
-async function openOptions(wrapper: Wrapper, name: string): Promise<HTMLElement[]> {
-  await selectNamed(wrapper, name).get('.el-select__wrapper').trigger('click')
-  await flushPromises()
-  const listbox = document.body.querySelector(`[role="listbox"][aria-label="${name}"]`)
-  return [...(listbox?.querySelectorAll<HTMLElement>('[role="option"]') ?? [])]
-}
-
-async function choose(wrapper: Wrapper, name: string, optionText: string): Promise<void> {
-  const option = (await openOptions(wrapper, name)).find((o) => o.textContent?.trim() === optionText)
-  if (!option) throw new Error(`No option "${optionText}" in "${name}"`)
-  option.click()
-  await flushPromises()
-}
+const chosen = (wrapper: Wrapper, name: string): string | null => chosenTexts(wrapper, name)[0] ?? null
+const choose = chooseOption
 
 beforeEach(() => {
   pinia = createPinia()
@@ -97,7 +73,7 @@ describe('ImageListFilters', () => {
 
   it('When a project is chosen, then the list is asked for that project from page 1 and its samples become the choice', async () => {
     const { wrapper, requests } = await mountFilters()
-    expect((await openOptions(wrapper, 'Project')).map((o) => o.textContent?.trim())).toEqual(['KB-24 anneal series', 'KB-25 thickness wedge'])
+    expect((await openSelectOptions(wrapper, 'Project')).map((o) => o.textContent?.trim())).toEqual(['KB-24 anneal series', 'KB-25 thickness wedge'])
     await choose(wrapper, 'Project', 'KB-24 anneal series')
 
     expect(chosen(wrapper, 'Project')).toBe('KB-24 anneal series')
@@ -106,7 +82,7 @@ describe('ImageListFilters', () => {
     const sample = selectNamed(wrapper, 'Sample')
     expect(sample.get('input').attributes('disabled')).toBeUndefined()
     expect(sample.attributes('title')).toBeUndefined()
-    expect((await openOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB24-A300', 'KB24-A350'])
+    expect((await openSelectOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB24-A300', 'KB24-A350'])
   })
 
   it('When a sample is chosen, then the list is asked for the project and that sample', async () => {
@@ -128,7 +104,7 @@ describe('ImageListFilters', () => {
     expect(useImagesStore().query).toMatchObject({ projectId: 2, sampleId: null })
     expect(listQueries(requests).at(-1)).toEqual({ projectId: '2', ...PAGING })
     expect(chosen(wrapper, 'Sample')).toBeNull()
-    expect((await openOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB25-W110'])
+    expect((await openSelectOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB25-W110'])
   })
 
   it('When a project chosen before is chosen again, then its samples are not asked for a second time', async () => {
@@ -137,14 +113,14 @@ describe('ImageListFilters', () => {
     await choose(wrapper, 'Project', 'KB-25 thickness wedge')
     await choose(wrapper, 'Project', 'KB-24 anneal series')
     expect(requests.filter((r) => r.url === '/api/projects/1/samples')).toHaveLength(1)
-    expect((await openOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB24-A300', 'KB24-A350'])
+    expect((await openSelectOptions(wrapper, 'Sample')).map((o) => o.textContent?.trim())).toEqual(['KB24-A300', 'KB24-A350'])
   })
 
   it('When a technique and an annotation status are chosen, then each narrows the list, and both are sent together', async () => {
     const { wrapper, requests } = await mountFilters()
-    expect((await openOptions(wrapper, 'Technique')).map((o) => o.textContent?.trim())).toEqual(['Kerr, polar', 'Kerr, longitudinal', 'Magnetic force microscopy', 'Other'])
+    expect((await openSelectOptions(wrapper, 'Technique')).map((o) => o.textContent?.trim())).toEqual(['Kerr, polar', 'Kerr, longitudinal', 'Magnetic force microscopy', 'Other'])
     await choose(wrapper, 'Technique', 'Magnetic force microscopy')
-    expect((await openOptions(wrapper, 'Annotation status')).map((o) => o.textContent?.trim())).toEqual(['Not started', 'In progress', 'Submitted'])
+    expect((await openSelectOptions(wrapper, 'Annotation status')).map((o) => o.textContent?.trim())).toEqual(['Not started', 'In progress', 'Submitted'])
     await choose(wrapper, 'Annotation status', 'In progress')
 
     expect(chosen(wrapper, 'Technique')).toBe('Magnetic force microscopy')

@@ -12,7 +12,7 @@ import SampleTheoryMaterialDialog from '@/components/SampleTheoryMaterialDialog.
 import SampleTheoryPanel from '@/components/SampleTheoryPanel.vue'
 import { useSessionStore } from '@/stores/session'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
-import { alertTexts, getButton, getByLabel } from '../domQueries'
+import { alertTexts, chooseOption, chosenTexts, getButton, getByLabel, openSelectOptions, selectNamed } from '../domQueries'
 import { sampleDto, sampleFrameMeasurementDto, sampleStackRunDto } from '../labDtos'
 
 let pinia: Pinia
@@ -95,31 +95,9 @@ async function mountPanel({ sample = sampleDto(), measurements = null, role = 'm
 
 type Wrapper = Awaited<ReturnType<typeof mountPanel>>['wrapper']
 
-/** A select of the panel, found by its accessible name. */
-function selectNamed(wrapper: Wrapper, name: string) {
-  const select = wrapper.findAll('.el-select').find((s) => s.find(`input[aria-label="${name}"]`).exists())
-  if (!select) throw new Error(`No select "${name}"`)
-  return select
-}
-
 /** What a select shows as chosen. */
-const chosen = (wrapper: Wrapper, name: string) => selectNamed(wrapper, name).findAll('.el-select__placeholder:not(.is-transparent)').map((p) => p.text())
-
-/** Open a select as a person would; its options are teleported to the end of the body. */
-async function openOptions(wrapper: Wrapper, name: string): Promise<HTMLElement[]> {
-  const select = selectNamed(wrapper, name)
-  await select.get('.el-select__wrapper').trigger('click')
-  await flushPromises()
-  const list = select.get(`input[aria-label="${name}"]`).attributes('aria-controls')
-  return [...document.body.querySelectorAll<HTMLElement>(`[id="${list}"] .el-select-dropdown__item`)]
-}
-
-async function choose(wrapper: Wrapper, name: string, option: string): Promise<void> {
-  const item = (await openOptions(wrapper, name)).find((i) => i.textContent?.trim() === option)
-  if (!item) throw new Error(`No option "${option}" in "${name}"`)
-  item.click()
-  await flushPromises()
-}
+const chosen = (wrapper: Wrapper, name: string) => chosenTexts(wrapper, name)
+const choose = chooseOption
 
 /** The rows of a table named `label`, each as its cells' texts, keyed by the first cell. */
 function tableRows(wrapper: Wrapper, label: string): Map<string, string[]> {
@@ -175,7 +153,7 @@ describe('SampleTheoryPanel, choosing constants', () => {
     expect(chosen(wrapper, 'Material constants')).toEqual([])
     expect(wrapper.text()).toContain('Choose a material to see the predictions.')
     expect(wrapper.find('[aria-label="Theory against measurement"]').exists()).toBe(false)
-    expect((await openOptions(wrapper, 'Material constants')).map((o) => o.textContent?.trim())).toEqual(['Fe', 'Co', 'Ni', 'Nd2Fe14B', 'Permalloy Ni80Fe20'])
+    expect((await openSelectOptions(wrapper, 'Material constants')).map((o) => o.textContent?.trim())).toEqual(['Fe', 'Co', 'Ni', 'Nd2Fe14B', 'Permalloy Ni80Fe20'])
   })
 
   it('When Fe is chosen, then its constants show in SI and CGS with their sources, matching the METHODS §9.3 conversions', async () => {
@@ -273,7 +251,7 @@ describe('SampleTheoryPanel, comparing with measurements', () => {
     expect(constant(wrapper, 'Curie temperature Tc').source).toBe('not tabulated')
     // The newest stack run comes first, labelled by its frame nearest M = 0 (true minus sign).
     expect(chosen(wrapper, 'Compare with')).toEqual(['Stack run #7 · KB24-A300_field-sweep.tif · frame 20 (M/Ms = \u22120.013)'])
-    expect((await openOptions(wrapper, 'Compare with')).map((o) => o.textContent?.trim())).toEqual([
+    expect((await openSelectOptions(wrapper, 'Compare with')).map((o) => o.textContent?.trim())).toEqual([
       'Stack run #7 · KB24-A300_field-sweep.tif · frame 20 (M/Ms = \u22120.013)',
       'KB24-A300_remanent.tif · frame 0 (saved analysis)',
     ])
@@ -422,7 +400,7 @@ describe('SampleTheoryPanel, the lab’s materials', () => {
     })
     expect(alertTexts(wrapper).join(' ')).toContain("Could not load the lab's materials")
     expect(alertTexts(wrapper).join(' ')).toContain('The database is not answering.')
-    expect((await openOptions(wrapper, 'Material constants')).map((o) => o.textContent?.trim())).toEqual(['Fe', 'Co', 'Ni', 'Nd2Fe14B', 'Permalloy Ni80Fe20'])
+    expect((await openSelectOptions(wrapper, 'Material constants')).map((o) => o.textContent?.trim())).toEqual(['Fe', 'Co', 'Ni', 'Nd2Fe14B', 'Permalloy Ni80Fe20'])
     await selectNamed(wrapper, 'Material constants').get('input').trigger('keydown', { key: 'Escape' })
     await flushPromises()
 

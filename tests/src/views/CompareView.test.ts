@@ -21,7 +21,7 @@ import type { LabMembershipDto } from '@shared/types/user'
 import { createAppRouter } from '@/router'
 import CompareView from '@/views/CompareView.vue'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
-import { alertTexts, getButton } from '../domQueries'
+import { alertTexts, chooseOption, chosenTexts, getButton, openSelectOptions, selectNamed } from '../domQueries'
 
 let pinia: Pinia
 let router: Router
@@ -169,35 +169,13 @@ async function mountCompare(options: { memberships?: LabMembershipDto[]; handler
 
 type Wrapper = Awaited<ReturnType<typeof mountCompare>>['wrapper']
 
-/** A select of the form, found by its accessible name. */
-function selectNamed(wrapper: Wrapper, name: string) {
-  const select = wrapper.findAll('.el-select').find((s) => s.find(`input[aria-label="${name}"]`).exists())
-  if (!select) throw new Error(`No select "${name}"`)
-  return select
-}
-
 /** What a select shows as chosen. */
-const chosen = (wrapper: Wrapper, name: string) => selectNamed(wrapper, name).findAll('.el-select__placeholder:not(.is-transparent)').map((item) => item.text())
-
-/** Open a select as a person would; its options are teleported to the end of the body. */
-async function openOptions(wrapper: Wrapper, name: string): Promise<HTMLElement[]> {
-  const select = selectNamed(wrapper, name)
-  await select.get('.el-select__wrapper').trigger('click')
-  await flushPromises()
-  const list = select.get(`input[aria-label="${name}"]`).attributes('aria-controls')
-  return [...document.body.querySelectorAll<HTMLElement>(`[id="${list}"] .el-select-dropdown__item`)]
-}
+const chosen = (wrapper: Wrapper, name: string) => chosenTexts(wrapper, name)
 
 /** The options a select offers. */
-const optionsOf = async (wrapper: Wrapper, name: string) => (await openOptions(wrapper, name)).map((item) => item.textContent!.trim())
+const optionsOf = async (wrapper: Wrapper, name: string) => (await openSelectOptions(wrapper, name)).map((item) => item.textContent!.trim())
 
-/** Choose an option of a select by its text. */
-async function choose(wrapper: Wrapper, name: string, option: string): Promise<void> {
-  const item = (await openOptions(wrapper, name)).find((i) => i.textContent?.trim().startsWith(option))
-  if (!item) throw new Error(`No option "${option}" in "${name}"`)
-  item.click()
-  await flushPromises()
-}
+const choose = chooseOption
 
 const computeRequests = (requests: RecordedRequest[]) => requests.filter((r) => r.method === 'POST' && r.url === '/api/comparisons/compute')
 
