@@ -1,6 +1,7 @@
 /**
  * The object store client against the real s3rver: listings longer than one S3 page (1,000 keys) come back whole;
- * an object streamed to a file arrives byte for byte and never overwrites an existing file.
+ * an object streamed to a file arrives byte for byte and never overwrites an existing file; objects of one folder
+ * removed side by side are all removed.
  */
 import { createHash, randomBytes, randomUUID } from 'node:crypto'
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
@@ -49,5 +50,23 @@ describe('object store listing', () => {
     } finally {
       rmSync(folder, { recursive: true, force: true })
     }
+  }, 60_000)
+
+  it('When the objects of many frame folders are removed side by side, then each removal succeeds and nothing is left', async () => {
+    // As a purge or a restore does: 50 removals at a time, in listing order, so that several of them empty sibling
+    // folders at the same moment (s3rver then races to remove their common parent).
+    const folder = `${prefix}purge/`
+    const keys = Array.from({ length: 200 }, (_, n) => ['preview.png', 'thumbnail.png', 'pixels.bin'].map((name) => `${folder}images/${n >> 3}/frames/${n & 7}/${name}`)).flat()
+    for (let i = 0; i < keys.length; i += 50) await Promise.all(keys.slice(i, i + 50).map((key) => ctx.deps.store.put(key, Buffer.from(key), 'application/octet-stream')))
+    const listed = await ctx.deps.store.list(folder)
+    const failures: unknown[] = []
+    for (let i = 0; i < listed.length; i += 50) {
+      const outcomes = await Promise.allSettled(listed.slice(i, i + 50).map((key) => ctx.deps.store.remove(key)))
+      failures.push(...outcomes.filter((o) => o.status === 'rejected'))
+    }
+    expect(failures).toEqual([])
+    expect(await ctx.deps.store.list(folder)).toEqual([])
+    // Removing what is not there is no error either (S3 answers 204 for a missing key).
+    await ctx.deps.store.remove(keys[0])
   }, 60_000)
 })
