@@ -60,14 +60,27 @@ const HELPER_POLL_MS = 200
 
 /**
  * Count the run's stored frame results into `frames_done` (owner and helpers each store their own frames, so no process
- * has the count); the owner also moves the heartbeat that keeps its claim on the run.
+ * has the count).
  */
-async function recordProgress(sequelize: Sequelize, runId: number, owner: boolean) {
+async function recordProgress(sequelize: Sequelize, runId: number) {
   await sequelize.query(
-    `UPDATE stack_runs SET frames_done = (SELECT count(*) FROM stack_frame_results WHERE run_id = :runId)${owner ? ', heartbeat_at = now()' : ''}
-     WHERE id = :runId`,
+    `UPDATE stack_runs SET frames_done = (SELECT count(*) FROM stack_frame_results WHERE run_id = :runId) WHERE id = :runId`,
     { replacements: { runId } },
   )
+}
+
+/**
+ * The owner's heartbeat, moved on a timer for as long as it holds the run, a third of `staleSeconds` apart. Moved only
+ * between frames, it went stale during a long stretch without one (the stack-wide threshold pass, the summary, a
+ * slow frame on a busy machine): another worker then took the run over while its owner was still on it.
+ */
+function keepHeartbeat(sequelize: Sequelize, runId: number, workerName: string, staleSeconds: number): () => void {
+  const beat = () =>
+    sequelize
+      .query(`UPDATE stack_runs SET heartbeat_at = now() WHERE id = :runId AND worker = :worker AND status = 'running'`, { replacements: { runId, worker: workerName } })
+      .catch((err: Error) => console.error(`[worker] run ${runId}: heartbeat not stored: ${err.message}`))
+  const timer = setInterval(beat, Math.max(250, (staleSeconds * 1000) / 3))
+  return () => clearInterval(timer)
 }
 
 /** The recipe segments with one threshold for the whole stack, which the owner computes before any frame is measured. */
@@ -135,11 +148,14 @@ async function pendingHelperFrames(sequelize: Sequelize, runId: number, workerNa
 export async function processStackRun(deps: ProcessorDeps, runId: number, options: ProcessorOptions): Promise<'processed' | 'skipped'> {
   const run = await claim(deps.sequelize, runId, options)
   if (!run) return 'skipped'
+  const stopHeartbeat = keepHeartbeat(deps.sequelize, runId, options.workerName, options.staleSeconds)
   try {
     await runPasses(deps, run, options)
   } catch (err) {
     await run.update({ status: 'failed', error: (err as Error).message, finishedAt: new Date() })
     throw err
+  } finally {
+    stopHeartbeat()
   }
   return 'processed'
 }
@@ -181,7 +197,7 @@ export async function helpStackRun(deps: ProcessorDeps, runId: number, options: 
       if (run.status !== 'running' || Date.now() > deadline) return skipped
       threshold = run.threshold ?? undefined
     }
-    const frames = await measureClaimedFrames(deps, { run, image, recipe, file, threshold, workerName: options.workerName, owner: false, freshMasks: null }, indices)
+    const frames = await measureClaimedFrames(deps, { run, image, recipe, file, threshold, workerName: options.workerName, freshMasks: null }, indices)
     return { outcome: frames > 0 ? 'helped' : 'skipped', frames }
   } finally {
     deps.pool.releaseFile(file)
@@ -214,7 +230,6 @@ interface RunContext {
   file: SharedFile
   threshold: number | undefined
   workerName: string
-  owner: boolean
   /** The owner keeps the masks it measured (encoded) for the summary; a helper's are read back from the store. */
   freshMasks: Map<number, Uint8Array> | null
 }
@@ -234,7 +249,7 @@ async function measureFrame(deps: ProcessorDeps, ctx: RunContext, index: number)
     { runId: run.id, frameIndex: outcome.index, measurements: outcome.ok ? (outcome.value.measurements as unknown as Record<string, unknown>) : null, maskKey, error: outcome.ok ? null : outcome.error.message },
     { conflictFields: ['run_id', 'frame_index'] as never },
   )
-  await recordProgress(deps.sequelize, run.id, ctx.owner)
+  await recordProgress(deps.sequelize, run.id)
 }
 
 /**
@@ -261,7 +276,7 @@ async function awaitHelpers(deps: ProcessorDeps, ctx: RunContext, staleSeconds: 
     const { takenOver, waiting } = await pendingHelperFrames(deps.sequelize, ctx.run.id, ctx.workerName, staleSeconds)
     for (const index of takenOver) await measureFrame(deps, ctx, index)
     if (waiting === 0) return
-    await recordProgress(deps.sequelize, ctx.run.id, true)
+    await recordProgress(deps.sequelize, ctx.run.id)
     await new Promise((resolve) => setTimeout(resolve, HELPER_POLL_MS))
   }
 }
@@ -274,10 +289,13 @@ async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorO
   const recipe: AnalysisRecipe = normalizeRecipe(run.recipe as Partial<AnalysisRecipe>)
   const frames = await Frame.findAll({ where: { imageId: image.id }, order: [['index', 'ASC']] })
   const meta: StackMeta = { pixelSizeNm: image.pixelSizeNm, fieldUnit: frames.find((f) => f.fieldUnit)?.fieldUnit ?? null, frames: frames.map((f) => ({ field: f.field, temperatureK: f.temperatureK })) }
-  // Claims of an earlier attempt without a result are void: their frames are measured again.
+  // Claims of an earlier attempt without a result are void: their frames are measured again. Another worker's claim
+  // younger than `staleSeconds` is kept: that helper is still on its frame (voided, its result would be stored
+  // unclaimed and counted for no worker); the owner waits for it like for any helper's frame, or takes it over.
   await sequelize.query(
-    `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId AND ${CLAIM_WITHOUT_RESULT_SQL}`,
-    { replacements: { runId: run.id } },
+    `DELETE FROM stack_frame_claims c WHERE c.run_id = :runId AND ${CLAIM_WITHOUT_RESULT_SQL}
+       AND (c.worker = :worker OR c.claimed_at < now() - make_interval(secs => :stale))`,
+    { replacements: { runId: run.id, worker: options.workerName, stale: options.staleSeconds } },
   )
   // Asked for first, so that a helper fetches the original while this worker does and while the threshold pass runs.
   await deps.requestHelp?.(run.id).catch((err: Error) => console.error(`[worker] run ${run.id}: help not requested: ${err.message}`))
@@ -291,9 +309,9 @@ async function runPasses(deps: ProcessorDeps, run: StackRun, options: ProcessorO
       const range = safeHistogramRange(Math.min(...ranges.map((r) => r.min)), Math.max(...ranges.map((r) => r.max)), recipe)
       const histograms = (await pool.histogramPass(file, all, recipe, range)).filter((o) => o.ok).map((o) => (o as { value: Uint32Array }).value)
       threshold = pooledThreshold(histograms, range)
-      await run.update({ threshold, heartbeatAt: new Date() })
+      await run.update({ threshold })
     }
-    const ctx: RunContext = { run, image, recipe, file, threshold, workerName: options.workerName, owner: true, freshMasks: new Map() }
+    const ctx: RunContext = { run, image, recipe, file, threshold, workerName: options.workerName, freshMasks: new Map() }
     await measureClaimedFrames(deps, ctx, all)
     await awaitHelpers(deps, ctx, options.staleSeconds)
     const freshMasks = ctx.freshMasks!

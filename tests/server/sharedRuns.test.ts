@@ -3,7 +3,9 @@
  * one by one), against the real PostgreSQL and s3rver, with a real analysis thread pool for each worker: every frame
  * is measured exactly once, the helper's frames are read back for the summary, and the numbers are those of the
  * one-thread engine (the CLI's path). A helper that claims a frame and dies does not hold the run up: the owner takes
- * the frame over once the claim is stale. Ground truth from the generators in scripts/sampleImages.ts.
+ * the frame over once the claim is stale; taking a run over voids the claims of the attempt before but not those of a
+ * helper still on its frame; the owner's heartbeat moves while it stores no frame. Ground truth from the generators
+ * in scripts/sampleImages.ts.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { createLabWithRoles, signIn, startTestApp } from './testApp'
@@ -12,7 +14,7 @@ import { renderFieldSweep } from '../../scripts/sampleImages'
 import { analyzeStack } from '../../shared/analysis/analyzeStack'
 import { normalizeRecipe } from '../../shared/analysis/recipe'
 import { StackFrameResult, StackRun } from '../../server/models'
-import { helpStackRun, processStackRun } from '../../server/jobs/stackRunProcessor'
+import { findOrphanedRuns, helpStackRun, processStackRun } from '../../server/jobs/stackRunProcessor'
 import { createAnalysisPool, type AnalysisPool } from '../../server/analysis/analysisPool'
 
 const HC_MT = 7.3
@@ -41,7 +43,7 @@ describe('a stack run shared by workers', () => {
 
   /** Upload the sweep (a new name each time, so the duplicate check does not answer) and queue a run of it. */
   async function queueRun(name: string, frames = sweep.frames): Promise<number> {
-    const { imageId } = await uploadImage(session, projectId, { name, frames, pixelSizeNm: 100, fieldsMT: sweep.fieldsMT })
+    const { imageId } = await uploadImage(session, projectId, { name, frames, pixelSizeNm: 100, fieldsMT: sweep.fieldsMT.slice(0, frames.length) })
     const started = await session.agent.post(`/api/images/${imageId}/stack-runs`).set('x-csrf-token', session.csrf).send({ recipe })
     expect(started.status).toBe(202)
     return started.body.id as number
@@ -108,6 +110,46 @@ describe('a stack run shared by workers', () => {
     expect(rows).toHaveLength(41)
     expect(rows.find((r) => r.frameIndex === 17)?.measurements).not.toBeNull()
     expect((await claims(runId)).every((c) => c.worker === 'owner:3')).toBe(true)
+  }, 120_000)
+
+  it('When a run is taken over while a helper is still on a frame, then that claim stays, the old ones are voided, and every frame counts for one worker', async () => {
+    const frames = sweep.frames.map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + 2)) }))
+    const runId = await queueRun('taken-over.tif', frames)
+    // Left by the attempt before: frame 5 claimed just now by a helper that is still measuring it, frame 6 by a
+    // helper gone an hour ago, frame 7 by this very worker (its own earlier attempt is over).
+    await ctx.deps.sequelize.query(
+      `INSERT INTO stack_frame_claims (run_id, frame_index, worker, claimed_at) VALUES
+         (:runId, 5, 'busy:7', now()), (:runId, 6, 'gone:8', now() - interval '1 hour'), (:runId, 7, 'owner:5', now())`,
+      { replacements: { runId } },
+    )
+    let claimsAtStart: { frame_index: number; worker: string }[] = []
+    const owner = workerDeps(2, async (id) => {
+      claimsAtStart = await claims(id) // asked for right after the void claims are removed, before any frame
+    })
+    expect(await processStackRun(owner, runId, { staleSeconds: 3, workerName: 'owner:5' })).toBe('processed')
+    expect(claimsAtStart).toEqual([{ frame_index: 5, worker: 'busy:7' }])
+    expect(await StackFrameResult.count({ where: { runId } })).toBe(41)
+    // The busy helper never stored frame 5 here, so the owner took it over once its claim went stale.
+    const final = await claims(runId)
+    expect(final.map((c) => c.frame_index)).toEqual(Array.from({ length: 41 }, (_, i) => i))
+    expect(final.every((c) => c.worker === 'owner:5')).toBe(true)
+  }, 120_000)
+
+  it('When the owner stores no frame for longer than the stale time, then its heartbeat still moves and no other worker takes the run', async () => {
+    const frames = sweep.frames.slice(0, 3).map((f) => ({ ...f, data: Uint16Array.from(f.data as Uint16Array, (v) => Math.min(65535, v + 3)) }))
+    const runId = await queueRun('long-stretch.tif', frames)
+    const staleSeconds = 3
+    let orphanedDuringStretch: number[] | null = null
+    // Asking for help is awaited before the first frame: held up for over twice the stale time, it stands for any long
+    // stretch without a stored frame (a stack-wide threshold pass, the summary of a long stack, a slow store).
+    const owner = workerDeps(1, async () => {
+      await new Promise((resolve) => setTimeout(resolve, 2.5 * staleSeconds * 1000))
+      orphanedDuringStretch = await findOrphanedRuns(staleSeconds, 'other:6', new Set())
+    })
+    expect(await processStackRun(owner, runId, { staleSeconds, workerName: 'owner:6' })).toBe('processed')
+    expect(orphanedDuringStretch).not.toBeNull()
+    expect(orphanedDuringStretch).not.toContain(runId)
+    expect((await StackRun.findByPk(runId))!.status).toBe('done')
   }, 120_000)
 
   it('When a helper is offered a run that is not running, is its own, or has no frame left, then it skips it', async () => {
