@@ -1,3 +1,4 @@
+import { expect, vi } from 'vitest'
 import { flushPromises, type DOMWrapper, type VueWrapper } from '@vue/test-utils'
 
 type Found<T extends Element> = Omit<DOMWrapper<T>, 'exists'>
@@ -50,5 +51,19 @@ export async function chooseOption(wrapper: VueWrapper, name: string, text: stri
   const option = options.find((o) => o.textContent?.trim() === text) ?? options.find((o) => o.textContent?.trim().startsWith(text))
   if (!option) throw new Error(`No option "${text}" in "${name}"`)
   option.click()
+  await flushPromises()
+}
+
+/** The newest Element Plus message box, once it shows (they are put at the end of the body, outside the component). */
+export async function messageBox(): Promise<HTMLElement> {
+  await vi.waitFor(() => expect(document.querySelector('.el-message-box')).not.toBeNull())
+  return [...document.querySelectorAll<HTMLElement>('.el-message-box')].at(-1)!
+}
+
+/** Press the button `text` of the newest message box, as a person answers a confirmation. */
+export async function pressInMessageBox(text: string): Promise<void> {
+  const button = [...(await messageBox()).querySelectorAll<HTMLButtonElement>('button')].find((b) => b.textContent?.trim() === text)
+  if (!button) throw new Error(`No "${text}" in the message box`)
+  button.click()
   await flushPromises()
 }

@@ -12,7 +12,7 @@ import SampleTheoryMaterialDialog from '@/components/SampleTheoryMaterialDialog.
 import SampleTheoryPanel from '@/components/SampleTheoryPanel.vue'
 import { useSessionStore } from '@/stores/session'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
-import { alertTexts, chooseOption, chosenTexts, getButton, getByLabel, openSelectOptions, selectNamed } from '../domQueries'
+import { alertTexts, chooseOption, chosenTexts, getButton, getByLabel, messageBox, openSelectOptions, pressInMessageBox, selectNamed } from '../domQueries'
 import { sampleDto, sampleFrameMeasurementDto, sampleStackRunDto } from '../labDtos'
 
 let pinia: Pinia
@@ -130,15 +130,7 @@ const constant = (wrapper: Wrapper, name: string) => {
 const dialog = (wrapper: Wrapper) => wrapper.findComponent(SampleTheoryMaterialDialog)
 
 /** The newest confirm box: Element Plus puts it at the end of the body, outside the mounted component (a closed one may linger). */
-const lastBox = () => [...document.querySelectorAll<HTMLElement>('.el-message-box')].at(-1) ?? null
 
-async function confirmBox(buttonText: string): Promise<void> {
-  await vi.waitFor(() => expect(lastBox()).not.toBeNull())
-  const button = [...lastBox()!.querySelectorAll<HTMLButtonElement>('button')].find((b) => b.textContent?.trim() === buttonText)
-  if (!button) throw new Error(`No "${buttonText}" in the confirm box`)
-  button.click()
-  await flushPromises()
-}
 
 beforeEach(() => {
   pinia = createPinia()
@@ -369,13 +361,13 @@ describe('SampleTheoryPanel, the lab’s materials', () => {
       extra: { 'DELETE /api/labs/1/materials/12': () => jsonResponse(204) },
     })
     await getButton(wrapper, 'Remove').trigger('click')
-    await vi.waitFor(() => expect(lastBox()?.textContent).toContain('Remove “Ta/CoFeB/MgO” from the lab\'s materials? Everyone in the lab uses this table.'))
-    await confirmBox('Cancel')
+    await vi.waitFor(async () => expect((await messageBox()).textContent).toContain('Remove “Ta/CoFeB/MgO” from the lab\'s materials? Everyone in the lab uses this table.'))
+    await pressInMessageBox('Cancel')
     expect(requests.filter((r) => r.method === 'DELETE')).toEqual([])
     expect(chosen(wrapper, 'Material constants')).toEqual(['Ta/CoFeB/MgO'])
 
     await getButton(wrapper, 'Remove').trigger('click')
-    await confirmBox('Remove')
+    await pressInMessageBox('Remove')
     await vi.waitFor(() => expect(requests.filter((r) => r.method === 'DELETE').map((r) => r.url)).toEqual(['/api/labs/1/materials/12']))
     await flushPromises()
     // "Ta/CoFeB/MgO" matches no built-in entry, so nothing is chosen any more.

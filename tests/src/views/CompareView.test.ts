@@ -21,7 +21,7 @@ import type { LabMembershipDto } from '@shared/types/user'
 import { createAppRouter } from '@/router'
 import CompareView from '@/views/CompareView.vue'
 import { errorResponse, jsonResponse, stubFetch, type RecordedRequest } from '../fakeApi'
-import { alertTexts, chooseOption, chosenTexts, getButton, openSelectOptions, selectNamed } from '../domQueries'
+import { alertTexts, chooseOption, chosenTexts, getButton, messageBox, openSelectOptions, pressInMessageBox, selectNamed } from '../domQueries'
 
 let pinia: Pinia
 let router: Router
@@ -372,17 +372,7 @@ describe('CompareView, a failed comparison', () => {
   })
 })
 
-/** Element Plus puts message boxes at the end of the body, outside the mounted component. */
-async function messageBox(): Promise<HTMLElement> {
-  await vi.waitFor(() => expect(document.querySelector('.el-message-box')).not.toBeNull())
-  return document.querySelector<HTMLElement>('.el-message-box')!
-}
 
-function clickIn(box: HTMLElement, text: string): void {
-  const button = [...box.querySelectorAll<HTMLButtonElement>('button')].find((b) => b.textContent?.trim() === text)
-  if (!button) throw new Error(`No "${text}" in the message box`)
-  button.click()
-}
 
 const savedNames = (wrapper: Wrapper) => savedViews(wrapper).findAll('li a').map((a) => a.text())
 
@@ -394,7 +384,7 @@ describe('CompareView, saved views', () => {
     const box = await messageBox()
     expect(box.textContent).toContain('Save as view')
     expect(box.querySelector('input')?.value).toBe('Mean domain width by anneal temperature')
-    clickIn(box, 'Save')
+    await pressInMessageBox('Save')
     await vi.waitFor(() => expect(router.currentRoute.value.query).toEqual({ view: '31' }))
     await flushPromises()
 
@@ -417,7 +407,7 @@ describe('CompareView, saved views', () => {
     input.value = '   '
     input.dispatchEvent(new Event('input'))
     await flushPromises()
-    clickIn(box, 'Save')
+    await pressInMessageBox('Save')
     await vi.waitFor(() => expect(box.textContent).toContain('Give the view a name (at most 200 characters).'))
     expect(requests.some((r) => r.method === 'POST' && r.url === '/api/comparisons')).toBe(false)
   })
@@ -513,7 +503,7 @@ describe('CompareView, saved views', () => {
     await savedViews(wrapper).get('button[aria-label="Delete Mara’s period check"]').trigger('click')
     const box = await messageBox()
     expect(box.textContent).toContain('“Mara’s period check” disappears for everyone in the lab.')
-    clickIn(box, 'Delete')
+    await pressInMessageBox('Delete')
     await vi.waitFor(() => expect(savedNames(wrapper)).toEqual(['KB-24 widths by anneal temperature']))
     expect(requests.filter((r) => r.method === 'DELETE').map((r) => r.url)).toEqual(['/api/comparisons/16'])
   })
@@ -529,7 +519,7 @@ describe('CompareView, saved views', () => {
     })
     expect(router.currentRoute.value.query).toEqual({ view: '12' })
     await savedViews(wrapper).get('button[aria-label="Delete KB-24 widths by anneal temperature"]').trigger('click')
-    clickIn(await messageBox(), 'Delete')
+    await pressInMessageBox('Delete')
     await vi.waitFor(() => expect(savedNames(wrapper)).toEqual([]))
     await vi.waitFor(() => expect(router.currentRoute.value.query).toEqual({}))
   })
@@ -537,7 +527,7 @@ describe('CompareView, saved views', () => {
   it('When deleting is not confirmed, then the view stays and nothing is sent', async () => {
     const { wrapper, requests } = await mountCompare({ handlers: { 'GET /api/comparisons': () => jsonResponse(200, [SAVED]) } })
     await savedViews(wrapper).get('button[aria-label="Delete KB-24 widths by anneal temperature"]').trigger('click')
-    clickIn(await messageBox(), 'Keep it')
+    await pressInMessageBox('Keep it')
     await flushPromises()
     expect(savedNames(wrapper)).toEqual(['KB-24 widths by anneal temperature'])
     expect(requests.some((r) => r.method === 'DELETE')).toBe(false)

@@ -9,7 +9,7 @@ import { createAppRouter } from '@/router'
 import LabAdminView from '@/views/LabAdminView.vue'
 import LabAdminMembersTable from '@/components/LabAdminMembersTable.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
-import { alertTexts } from '../domQueries'
+import { alertTexts, pressInMessageBox } from '../domQueries'
 
 let pinia: Pinia
 
@@ -48,14 +48,6 @@ async function mountAdmin(patch: () => Response, patchMe?: (role: string) => Res
   return { wrapper, requests, router }
 }
 
-/** Element Plus puts the confirm box at the end of the body, outside the mounted component. */
-async function confirmBox(buttonText: string): Promise<void> {
-  await vi.waitFor(() => expect(document.querySelector('.el-message-box')).not.toBeNull())
-  const button = [...document.querySelectorAll<HTMLButtonElement>('.el-message-box button')].find((b) => b.textContent?.trim() === buttonText)
-  if (!button) throw new Error(`No "${buttonText}" in the confirm box`)
-  button.click()
-  await flushPromises()
-}
 
 beforeEach(() => {
   pinia = createPinia()
@@ -76,7 +68,7 @@ describe('LabAdminView', () => {
     const message = 'This is the last active administrator or principal investigator of the lab: make someone else one first.'
     const { wrapper, requests } = await mountAdmin(() => errorResponse(409, 'last-manager', message))
     await wrapper.get('button[aria-label="Deactivate Elena Varga"]').trigger('click')
-    await confirmBox('Deactivate')
+    await pressInMessageBox('Deactivate')
 
     await vi.waitFor(() => expect(alertTexts(wrapper).join(' ')).toContain(message))
     expect(alertTexts(wrapper).join(' ')).toContain('Elena Varga was not deactivated')
@@ -88,7 +80,7 @@ describe('LabAdminView', () => {
   it('When a deactivation is confirmed and allowed, then the member shows as deactivated with Reactivate', async () => {
     const { wrapper } = await mountAdmin(() => jsonResponse(200, { ...MEMBERS[0], active: false }))
     await wrapper.get('button[aria-label="Deactivate Elena Varga"]').trigger('click')
-    await confirmBox('Deactivate')
+    await pressInMessageBox('Deactivate')
     await vi.waitFor(() => expect(wrapper.find('button[aria-label="Reactivate Elena Varga"]').exists()).toBe(true))
   })
 
@@ -106,7 +98,7 @@ describe('LabAdminView', () => {
     wrapper.findComponent(LabAdminMembersTable).vm.$emit('changeRole', MEMBERS[2], 'annotator')
     await flushPromises()
     expect(document.querySelector('.el-message-box')?.textContent).toContain('Make yourself Annotator?')
-    await confirmBox('Become Annotator')
+    await pressInMessageBox('Become Annotator')
     await vi.waitFor(() => expect(router.currentRoute.value.name).toBe('overview'))
     expect(requests.find((r) => r.method === 'PATCH')?.body).toEqual({ role: 'annotator' })
     expect(requests.filter((r) => r.url.endsWith('/api/auth/me')).length).toBeGreaterThanOrEqual(2)
@@ -116,7 +108,7 @@ describe('LabAdminView', () => {
     const { wrapper, requests } = await mountAdmin(() => jsonResponse(500), (role) => jsonResponse(200, { ...MEMBERS[2], role }))
     wrapper.findComponent(LabAdminMembersTable).vm.$emit('changeRole', MEMBERS[2], 'annotator')
     await flushPromises()
-    await confirmBox('Cancel')
+    await pressInMessageBox('Cancel')
     expect(requests.some((r) => r.method === 'PATCH')).toBe(false)
   })
 

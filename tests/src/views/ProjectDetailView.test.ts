@@ -9,7 +9,7 @@ import type { DeletionReceiptDto } from '@shared/types/deletion'
 import { createAppRouter } from '@/router'
 import ProjectDetailView from '@/views/ProjectDetailView.vue'
 import { errorResponse, jsonResponse, stubFetch } from '../fakeApi'
-import { alertTexts, getButton } from '../domQueries'
+import { alertTexts, getButton, pressInMessageBox } from '../domQueries'
 
 let pinia: Pinia
 
@@ -235,12 +235,6 @@ describe('ProjectDetailView, deleting the project', () => {
     deletedAt: '2026-11-20T09:00:00.000Z',
     purgeAfter: '2026-12-20T09:00:00.000Z',
     imageCount: 5,
-  }
-
-  async function pressInMessageBox(text: string): Promise<void> {
-    await vi.waitFor(() => expect(document.querySelector('.el-message-box')).not.toBeNull())
-    ;[...document.querySelectorAll<HTMLButtonElement>('.el-message-box button')].find((b) => b.textContent?.trim() === text)!.click()
-    await flushPromises()
   }
 
   it('When a PI confirms "Delete project", then the delete is sent and the project list opens', async () => {
