@@ -1,4 +1,4 @@
-import { formatNumber, formatWithStdErr } from './formatQuantity'
+import { formatQuantity, formatWithStdErr } from './formatQuantity'
 
 /**
  * The unit a length measured in pixels is shown in: px while the image is uncalibrated (never a guessed nanometre),
@@ -18,6 +18,6 @@ export function lengthScale(pixelSizeNm: number | null, largestPx: number): Leng
 
 /** A length in px shown in `scale`'s unit, with its standard error when there is one: "1.49 ± 0.04 µm". */
 export function formatScaledLength(px: number, stdErrPx: number | null, scale: LengthScale): string {
-  const value = stdErrPx === null ? formatNumber(px * scale.perPx, 3) : formatWithStdErr(px * scale.perPx, stdErrPx * scale.perPx)
-  return `${value} ${scale.unit}`
+  // Without an error, three digits as the pixel value beside it ("25.1 px, 3.01 µm").
+  return stdErrPx === null ? formatQuantity(px * scale.perPx, scale.unit, 3) : formatWithStdErr(px * scale.perPx, stdErrPx * scale.perPx, scale.unit)
 }

@@ -1,4 +1,4 @@
-/** Wall-motion quantities for people: durations in the unit a lab writes them (ns, µs, ms, s), velocity with its unit. */
+/** Wall-motion durations for people, in the unit a lab writes them (ns, µs, ms, s). */
 import { formatNumber } from '@/formatQuantity'
 
 const DURATION_UNITS: [number, string][] = [
@@ -13,12 +13,4 @@ export function formatDuration(seconds: number | null | undefined, significantDi
   if (seconds === null || seconds === undefined || !Number.isFinite(seconds)) return '—'
   const [scale, unit] = DURATION_UNITS.find(([s]) => Math.abs(seconds) >= s) ?? DURATION_UNITS[DURATION_UNITS.length - 1]
   return `${formatNumber(seconds / scale, significantDigits)} ${unit}`
-}
-
-/** "0.4934 ± 0.00097 m/s"; the error is left out when unknown. */
-export function formatWithError(value: number | null | undefined, error: number | null | undefined, unit: string, digits = 4): string {
-  const main = formatNumber(value, digits)
-  if (main === '—') return main
-  const withError = error === null || error === undefined || !Number.isFinite(error) ? main : `${main} ± ${formatNumber(error, 2)}`
-  return unit ? `${withError} ${unit}` : withError
 }

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import type { MotionCreep } from '@shared/analysis/analyzeMotion'
 import { creepCurve, creepLinearOption, velocityChartOption, type VelocityPoint } from '@/charts/motionChartOption'
-import { formatDuration, formatWithError } from '@/motionFormat'
+import { formatDuration } from '@/motionFormat'
 
 /** A constructed creep fit: ln v = 22.4 − 40·H^(−¼) (v in m/s, H in mT), with a flow regime above 8 mT. */
 const CREEP: MotionCreep = {
@@ -66,11 +66,5 @@ describe('motionFormat', () => {
     [null, '—'],
   ])('When a duration of %s s is shown, then it reads %s', (seconds, text) => {
     expect(formatDuration(seconds)).toBe(text)
-  })
-
-  it('When a value has an error, then it reads "value ± error unit"', () => {
-    expect(formatWithError(0.4934, 0.00097, 'm/s')).toBe('0.4934 ± 9.7×10⁻⁴ m/s')
-    expect(formatWithError(null, 1, 'm/s')).toBe('—')
-    expect(formatWithError(2, null, '')).toBe('2')
   })
 })

@@ -56,7 +56,7 @@ describe('CompareCreepFitsTable', () => {
     await flushPromises()
     const rows = wrapper.findAll('tbody tr').map((tr) => tr.findAll('td').map((td) => td.text()))
     expect(rows).toEqual([
-      ['250 °C', 'Film 250', '40.35 ± 0.033 mT^(1/4)', '1 series, 3 of 3 steps in the creep fit (4–6 mT)'],
+      ['250 °C', 'Film 250', '40.35 ± 0.03 mT^(1/4)', '1 series, 3 of 3 steps in the creep fit (4–6 mT)'],
       // Without a standard error (too few points for one) the slope stands alone.
       ['350 °C', 'Film 350', '30.03 mT^(1/4)', '1 series, 3 of 3 steps in the creep fit (4–6 mT)'],
     ])

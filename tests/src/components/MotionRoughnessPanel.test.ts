@@ -59,12 +59,12 @@ const seriesOf = (wrapper: Mounted) => (wrapper.getComponent(VChart).props('opti
 describe('MotionRoughnessPanel', () => {
   it('When ζ is fitted, then it is shown with its standard error beside the theory value 2/3 and its distance from it in standard errors', async () => {
     const shown = values(await mountPanel(roughness()))
-    expect(shown['Roughness exponent ζ']).toBe('0.71 ± 0.04')
+    expect(shown['Roughness exponent ζ']).toBe('0.710 ± 0.040') // rounded at the error's second digit
     // ζ = 2/3 for an elastic line in random-bond disorder (Huse & Henley 1985, from memory): 0.667 to three digits.
     expect(shown['Theory (elastic line, random-bond disorder)']).toBe('0.667 = 2/3')
     // |0.71 − 2/3| / 0.04 = 0.0433… / 0.04 = 1.083 → 1.1 to two digits.
     expect(shown['|ζ − 2/3| / SE']).toBe('1.1')
-    expect(shown['Box-counting dimension']).toBe('1.09 ± 0.012')
+    expect(shown['Box-counting dimension']).toBe('1.086 ± 0.012')
     expect(shown['Noise floor of B']).toBe('0.12 px²')
     expect(shown['Lags in the fit']).toBe('18')
   })
@@ -72,7 +72,7 @@ describe('MotionRoughnessPanel', () => {
   it('When ζ lies below 2/3, then the distance is still positive, and a small error makes it large', async () => {
     // |0.52 − 2/3| / 0.011 = 0.14667 / 0.011 = 13.33 → 13.
     const shown = values(await mountPanel(roughness({ zeta: 0.52, zetaStdErr: 0.011 })))
-    expect(shown['Roughness exponent ζ']).toBe('0.52 ± 0.011')
+    expect(shown['Roughness exponent ζ']).toBe('0.520 ± 0.011')
     expect(shown['|ζ − 2/3| / SE']).toBe('13')
   })
 
