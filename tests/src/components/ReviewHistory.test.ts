@@ -110,6 +110,27 @@ describe('ReviewHistory', () => {
     ])
   })
 
+  it('When an older record has audited comments but unaudited steps, then both show: the steps from the reviews, the comments from the audit', async () => {
+    const reviews: ReviewDto[] = [
+      { id: 1, analysisId: 5, fromStatus: 'draft', toStatus: 'submitted', message: SUBMIT_NOTE, by: PRIYA, createdAt: '2026-11-20T10:00:00.000Z' },
+      { id: 2, analysisId: 5, fromStatus: 'submitted', toStatus: 'changes-requested', message: CHANGES_NOTE, by: JONAS, createdAt: '2026-11-20T11:30:00.000Z' },
+    ]
+    const comments = AUDIT.filter((e) => e.action.startsWith('comment.'))
+    const wrapper = mountHistory(history(comments, reviews))
+    await flushPromises()
+    expect(entries(wrapper).map((e) => e.what)).toEqual([
+      'Priya Raman · Resolved a comment',
+      'Jonas Adeyemi · Asked for changes',
+      'Jonas Adeyemi · Added a comment',
+      'Priya Raman · Submitted for review',
+      'Priya Raman · Saved the mask; measured',
+    ])
+    // Once steps are audited, the reviews table is not read again (each step would show twice).
+    const audited = mountHistory(history(AUDIT, reviews))
+    await flushPromises()
+    expect(entries(audited).filter((e) => e.what.endsWith('Submitted for review'))).toHaveLength(2)
+  })
+
   it('When nothing happened since the mask was saved, then the history is that one line', async () => {
     const wrapper = mountHistory(history([]))
     await flushPromises()
